@@ -1,0 +1,6 @@
+export default defineEventHandler(async (event) => {
+  const session = await getUserSession(event)
+  await clearUserSession(event)
+  if (session.user) await audit({ actorId: session.user.id, action: 'user.signed-out' })
+  return { signedOut: true }
+})

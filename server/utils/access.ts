@@ -1,0 +1,51 @@
+import { and, eq } from 'drizzle-orm'
+import type { H3Event } from 'h3'
+import { roomMembers, rooms } from '../database/schema'
+import { roleAllows, type RoomAction, type RoomRole } from '../../shared/roles'
+
+/** The signed-in user, or 401. */
+export async function requireUser(event: H3Event) {
+  const { user } = await requireUserSession(event)
+  return user
+}
+
+/** The signed-in site administrator, or 401/403. */
+export async function requireAdmin(event: H3Event) {
+  const user = await requireUser(event)
+  // The session may predate a role change: ask the database, not the cookie.
+  const current = await findUserById(user.id)
+  if (current?.siteRole !== 'admin') throw createError({ statusCode: 403, message: 'Only a site administrator can do this.' })
+  return user
+}
+
+/**
+ * The room and the caller's role in it. A room the caller is not a member of answers 404,
+ * exactly like a room that does not exist, so room ids cannot be probed.
+ */
+export async function requireRoomMember(roomId: string, userId: string) {
+  const [row] = await useDb()
+    .select({ room: rooms, role: roomMembers.role })
+    .from(rooms)
+    .innerJoin(roomMembers, and(eq(roomMembers.roomId, rooms.id), eq(roomMembers.userId, userId)))
+    .where(eq(rooms.id, roomId))
+  if (!row) throw createError({ statusCode: 404, message: 'No such room, or you are not a member of it.' })
+  return row
+}
+
+/** Membership plus permission: 404 for outsiders, 403 for members whose role does not allow the action. */
+export async function requireRoomPermission(roomId: string, userId: string, action: RoomAction) {
+  const member = await requireRoomMember(roomId, userId)
+  if (!roleAllows(member.role, action)) {
+    throw createError({ statusCode: 403, message: `Your role in this room (${member.role}) does not allow this.` })
+  }
+  return member
+}
+
+/** Membership with one of the given roles: 404 for outsiders, 403 for other roles. */
+export async function requireRoomRole(roomId: string, userId: string, ...allowed: RoomRole[]) {
+  const member = await requireRoomMember(roomId, userId)
+  if (!allowed.includes(member.role)) {
+    throw createError({ statusCode: 403, message: `This needs the ${allowed.join(' or ')} role in this room.` })
+  }
+  return member
+}
