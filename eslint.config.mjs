@@ -2,5 +2,19 @@
 import withNuxt from './.nuxt/eslint.config.mjs'
 
 export default withNuxt(
-  // Your custom configs here
+  {
+    ignores: ['drizzle/**', 'test-results/**', 'playwright-report/**', 'docs/**'],
+  },
+  {
+    // Tests read loosely typed JSON answers; Playwright fixtures must destructure `{}`.
+    files: ['tests/**'],
+    rules: {
+      '@typescript-eslint/no-explicit-any': 'off',
+      'no-empty-pattern': 'off',
+    },
+  },
+  {
+    files: ['scripts/**/*.mjs'],
+    rules: { 'no-console': 'off' },
+  },
 )

@@ -1,16 +1,7 @@
 // https://nuxt.com/docs/api/configuration/nuxt-config
 export default defineNuxtConfig({
-  compatibilityDate: '2026-11-01',
-  devtools: { enabled: false },
-  telemetry: false,
   modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', '@vueuse/nuxt', 'nuxt-auth-utils', '@nuxt/eslint'],
-  css: [
-    '@fontsource/nunito/400.css',
-    '@fontsource/nunito/600.css',
-    '@fontsource/nunito/700.css',
-    '@fontsource/nunito/800.css',
-    '~/assets/css/main.css',
-  ],
+  devtools: { enabled: false },
   app: {
     head: {
       htmlAttrs: { lang: 'en' },
@@ -24,6 +15,13 @@ export default defineNuxtConfig({
       link: [{ rel: 'icon', type: 'image/svg+xml', href: '/favicon.svg' }],
     },
   },
+  css: [
+    '@fontsource/nunito/400.css',
+    '@fontsource/nunito/600.css',
+    '@fontsource/nunito/700.css',
+    '@fontsource/nunito/800.css',
+    '~/assets/css/main.css',
+  ],
   runtimeConfig: {
     // Overridden at run time by NUXT_DATABASE_URL / DATABASE_URL (see server/utils/db.ts).
     databaseUrl: '',
@@ -32,18 +30,20 @@ export default defineNuxtConfig({
       maxAge: 60 * 60 * 12,
     },
   },
+  compatibilityDate: '2026-11-01',
+  nitro: {
+    experimental: { websocket: true },
+  },
   typescript: {
     strict: true,
     typeCheck: false,
   },
-  tailwindcss: {
-    cssPath: false,
-    viewer: false,
-  },
+  telemetry: false,
   eslint: {
     config: { stylistic: true },
   },
-  nitro: {
-    experimental: { websocket: true },
+  tailwindcss: {
+    cssPath: false,
+    viewer: false,
   },
 })

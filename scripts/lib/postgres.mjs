@@ -90,7 +90,8 @@ export function ensureCluster({ dataDir, port, password, throwaway = false, data
   const psql = sql => capture(join(bin, 'psql'), ['-h', '127.0.0.1', '-p', String(port), '-U', 'postgres', '-d', 'postgres', '-v', 'ON_ERROR_STOP=1', '-tAc', sql], { env: { ...process.env, PGPASSWORD: password } })
   const quoted = password.replaceAll('\'', '\'\'')
   if (psql(`SELECT 1 FROM pg_roles WHERE rolname = '${role}'`) !== '1') {
-    if (psql(`CREATE ROLE ${role} LOGIN PASSWORD '${quoted}'`) === null) throw new Error(`could not create role ${role}`)
+    // Test clusters let the app role create databases, so tests can migrate a fresh one.
+    if (psql(`CREATE ROLE ${role} LOGIN ${throwaway ? 'CREATEDB ' : ''}PASSWORD '${quoted}'`) === null) throw new Error(`could not create role ${role}`)
   }
   if (psql(`SELECT 1 FROM pg_database WHERE datname = '${database}'`) !== '1') {
     if (psql(`CREATE DATABASE ${database} OWNER ${role}`) === null) throw new Error(`could not create database ${database}`)

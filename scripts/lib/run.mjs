@@ -44,6 +44,6 @@ export function ensureDebianPackages(packages) {
   log(`installing Debian packages: ${missing.join(' ')}`)
   const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' }
   run('apt-get', ['update', '-q'], { env })
-  run('apt-get', ['install', '-y', '-q', '--no-install-recommends', ...missing], { env })
+  run('apt-get', ['install', '-y', '-q', ...missing], { env })
   return true
 }
