@@ -4,11 +4,12 @@
  */
 import { Hash } from '@adonisjs/hash'
 import { Scrypt } from '@adonisjs/hash/drivers/scrypt'
-import { sql } from 'drizzle-orm'
+import { eq, sql } from 'drizzle-orm'
 import { drizzle } from 'drizzle-orm/node-postgres'
 import pg from 'pg'
-import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_ROOM } from '../server/database/demo'
-import { auditLog, roomMembers, rooms, users } from '../server/database/schema'
+import { DEMO_ACCOUNTS, DEMO_ALTERNATIVES, DEMO_CRITERIA, DEMO_PASSWORD, DEMO_ROOM } from '../server/database/demo'
+import { ledgerHash } from '../server/database/ledgerHash'
+import { auditLog, ledgerVersions, roomMembers, rooms, users } from '../server/database/schema'
 
 export async function seedDemo(url: string) {
   const pool = new pg.Pool({ connectionString: url, max: 1 })
@@ -36,6 +37,12 @@ export async function seedDemo(url: string) {
       const inserted = await tx.insert(rooms).values({ ...DEMO_ROOM, createdBy: facilitatorId }).onConflictDoNothing().returning({ id: rooms.id })
       if (inserted.length > 0) {
         await tx.insert(auditLog).values({ actorId: facilitatorId, roomId: DEMO_ROOM.id, action: 'room.created', details: { title: DEMO_ROOM.title, source: 'demo' } })
+      }
+      const [ledger] = await tx.select({ id: ledgerVersions.id }).from(ledgerVersions).where(eq(ledgerVersions.roomId, DEMO_ROOM.id)).limit(1)
+      if (!ledger) {
+        const hash = ledgerHash(DEMO_CRITERIA, DEMO_ALTERNATIVES)
+        await tx.insert(ledgerVersions).values({ roomId: DEMO_ROOM.id, number: 1, hash, criteria: DEMO_CRITERIA, alternatives: DEMO_ALTERNATIVES, note: 'Demo ledger', createdBy: facilitatorId })
+        await tx.insert(auditLog).values({ actorId: facilitatorId, roomId: DEMO_ROOM.id, action: 'ledger.version-created', details: { number: 1, hash: hash.slice(0, 12), note: 'Demo ledger', source: 'demo' } })
       }
       for (const account of DEMO_ACCOUNTS) {
         if (!account.roomRole) continue

@@ -1,6 +1,9 @@
 import { sql } from 'drizzle-orm'
-import { bigserial, index, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, uniqueIndex, uuid } from 'drizzle-orm/pg-core'
+import { bigserial, customType, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, unique, uniqueIndex, uuid } from 'drizzle-orm/pg-core'
 import { ROOM_ROLES, ROOM_STATUSES, SITE_ROLES } from '../../shared/roles'
+import type { Alternative, Criterion } from '../../shared/types/decision'
+
+const bytea = customType<{ data: Buffer, driverData: Buffer }>({ dataType: () => 'bytea' })
 
 export const siteRole = pgEnum('site_role', SITE_ROLES)
 export const roomRole = pgEnum('room_role', ROOM_ROLES)
@@ -23,6 +26,8 @@ export const rooms = pgTable('rooms', {
   title: text('title').notNull(),
   question: text('question').notNull(),
   status: roomStatus('status').notNull().default('draft'),
+  /** Short code people type (or scan as a QR code) to join as observers. */
+  code: text('code').notNull().unique(),
   createdBy: uuid('created_by').notNull().references(() => users.id),
   createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
   updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
@@ -61,7 +66,61 @@ export const signInFailures = pgTable('sign_in_failures', {
   index('sign_in_failures_email_idx').on(t.email, t.at),
 ])
 
+/** Files uploaded to a room (option tables), kept so the minutes can cite the exact file. */
+export const attachments = pgTable('attachments', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  filename: text('filename').notNull(),
+  mediaType: text('media_type').notNull(),
+  size: integer('size').notNull(),
+  sha256: text('sha256').notNull(),
+  content: bytea('content').notNull(),
+  uploadedBy: uuid('uploaded_by').references(() => users.id, { onDelete: 'set null' }),
+  createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [index('attachments_room_idx').on(t.roomId)])
+
+/**
+ * The ledger (criteria + alternatives) of a room, one immutable row per confirmed change.
+ * Weighings and minutes refer to the version they used; the current one has the highest number.
+ */
+export const ledgerVersions = pgTable('ledger_versions', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  number: integer('number').notNull(),
+  /** SHA-256 (hex) of the canonical JSON of criteria and alternatives. */
+  hash: text('hash').notNull(),
+  criteria: jsonb('criteria').$type<Criterion[]>().notNull(),
+  alternatives: jsonb('alternatives').$type<Alternative[]>().notNull(),
+  note: text('note').notNull().default(''),
+  attachmentId: uuid('attachment_id').references(() => attachments.id, { onDelete: 'set null' }),
+  createdBy: uuid('created_by').references(() => users.id, { onDelete: 'set null' }),
+  createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [unique('ledger_versions_room_number').on(t.roomId, t.number)])
+
+export const INVITATION_STATUSES = ['pending', 'accepted', 'revoked'] as const
+export const invitationStatus = pgEnum('invitation_status', INVITATION_STATUSES)
+
+/** Invitations by e-mail. Only a hash of the token is stored; a token works once and expires. */
+export const invitations = pgTable('invitations', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  email: text('email').notNull(),
+  role: roomRole('role').notNull(),
+  tokenHash: text('token_hash').notNull().unique(),
+  status: invitationStatus('status').notNull().default('pending'),
+  expiresAt: timestamp('expires_at', { withTimezone: true }).notNull(),
+  invitedBy: uuid('invited_by').references(() => users.id, { onDelete: 'set null' }),
+  createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+  lastSentAt: timestamp('last_sent_at', { withTimezone: true }).notNull().defaultNow(),
+  sendCount: integer('send_count').notNull().default(1),
+  acceptedBy: uuid('accepted_by').references(() => users.id, { onDelete: 'set null' }),
+  acceptedAt: timestamp('accepted_at', { withTimezone: true }),
+}, t => [index('invitations_room_idx').on(t.roomId)])
+
 export type User = typeof users.$inferSelect
 export type Room = typeof rooms.$inferSelect
 export type RoomMember = typeof roomMembers.$inferSelect
 export type AuditEntry = typeof auditLog.$inferSelect
+export type LedgerVersion = typeof ledgerVersions.$inferSelect
+export type Invitation = typeof invitations.$inferSelect
+export type Attachment = typeof attachments.$inferSelect
