@@ -3,7 +3,7 @@
 import process from 'node:process'
 import { DEMO } from './lib/demo-banner.mjs'
 import { log, run, start } from './lib/run.mjs'
-import { buildIsStale, ensureDependencies, migrateAndSeed, prepareEnvironment } from './lib/setup.mjs'
+import { buildIsStale, ensureDependencies, ensureMail, migrateAndSeed, prepareEnvironment } from './lib/setup.mjs'
 
 process.chdir(new URL('..', import.meta.url).pathname)
 const dev = process.argv.includes('--dev')
@@ -12,6 +12,7 @@ try {
   ensureDependencies()
   const env = prepareEnvironment()
   migrateAndSeed(env)
+  const mail = await ensureMail(env)
   const port = env.PORT || '3000'
   const host = env.HOST || '0.0.0.0'
   env.PORT = port
@@ -33,6 +34,7 @@ try {
     process.on(signal, () => server.child.kill(signal))
   }
   process.exitCode = await server.exited
+  await mail?.close()
 }
 catch (error) {
   console.error(`\n[counterpoise] set-up failed: ${error.message}`)

@@ -9,7 +9,7 @@ import process from 'node:process'
 import { loadEnv } from './lib/env.mjs'
 import { ensureCluster, stopCluster } from './lib/postgres.mjs'
 import { ensureDebianPackages, log, run } from './lib/run.mjs'
-import { ensureDependencies, migrateAndSeed } from './lib/setup.mjs'
+import { ensureDependencies, ensureMail, migrateAndSeed } from './lib/setup.mjs'
 
 process.chdir(new URL('..', import.meta.url).pathname)
 const only = process.argv.slice(2) // e.g. `npm test -- unit server`
@@ -64,6 +64,7 @@ async function suite(name, kind, cmd, args, env, reportFile) {
 
 let dataDir
 let server
+let mail
 try {
   ensureDependencies()
   if (!ensureDebianPackages(TEST_PACKAGES)) throw new Error(`the tests need the Debian packages ${TEST_PACKAGES.join(', ')}`)
@@ -80,6 +81,9 @@ try {
   }
   migrateAndSeed(env)
   mkdirSync('.tmp', { recursive: true })
+  // Tests read the mail the app sends from this run's own catcher.
+  delete env.SMTP_URL
+  mail = await ensureMail(env, { port: 0, dir: mkdtempSync('/tmp/counterpoise-mail-') })
 
   if (wanted('lint')) await check('lint (eslint)', 'npx', ['eslint', '.'], env)
   if (wanted('typecheck')) await check('type check (vue-tsc)', 'npx', ['nuxt', 'typecheck'], env)
@@ -111,6 +115,10 @@ finally {
     const exited = new Promise(resolve => server.once('exit', resolve))
     server.kill('SIGTERM')
     await exited
+  }
+  if (mail) {
+    await mail.close()
+    rmSync(mail.dir, { recursive: true, force: true })
   }
   if (dataDir) {
     stopCluster(dataDir, { remove: true })

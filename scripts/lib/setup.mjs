@@ -52,3 +52,29 @@ export function buildIsStale() {
   }
   return sources.some(newer)
 }
+
+/**
+ * With no SMTP_URL configured, start the local mail catcher (development and tests) and point
+ * the app at it; messages land in MAIL_DIR and show on the /dev/mail page. Imported lazily:
+ * smtp-server exists only after the dependencies are installed.
+ */
+export async function ensureMail(env, { port = Number(env.SMTP_PORT || 2525), dir = env.MAIL_DIR || '.data/mail' } = {}) {
+  if (env.SMTP_URL) {
+    log('sending mail through SMTP_URL')
+    return null
+  }
+  const { startMailCatcher } = await import('./mailCatcher.mjs')
+  let catcher
+  try {
+    catcher = await startMailCatcher({ port, dir, quiet: false })
+  }
+  catch (error) {
+    if (error.code !== 'EADDRINUSE') throw error
+    catcher = await startMailCatcher({ port: 0, dir, quiet: false })
+  }
+  env.SMTP_URL = catcher.url
+  env.MAIL_DIR = catcher.dir
+  env.COUNTERPOISE_DEV_MAIL = '1'
+  log(`mail goes to the local catcher at ${catcher.url}; read it at /dev/mail`)
+  return catcher
+}

@@ -1,7 +1,8 @@
 import { sql } from 'drizzle-orm'
-import { bigserial, customType, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, unique, uniqueIndex, uuid } from 'drizzle-orm/pg-core'
+import { bigserial, boolean, customType, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, unique, uniqueIndex, uuid } from 'drizzle-orm/pg-core'
 import { ROOM_ROLES, ROOM_STATUSES, SITE_ROLES } from '../../shared/roles'
 import type { Alternative, Criterion } from '../../shared/types/decision'
+import { INPUT_STYLES, WEIGHING_STATUSES } from '../../shared/weighing'
 
 const bytea = customType<{ data: Buffer, driverData: Buffer }>({ dataType: () => 'bytea' })
 
@@ -117,6 +118,52 @@ export const invitations = pgTable('invitations', {
   acceptedAt: timestamp('accepted_at', { withTimezone: true }),
 }, t => [index('invitations_room_idx').on(t.roomId)])
 
+export const weighingStatus = pgEnum('weighing_status', WEIGHING_STATUSES)
+export const inputStyle = pgEnum('input_style', INPUT_STYLES)
+
+/** A weighing round: stakeholders weigh the criteria of one ledger version. */
+export const weighings = pgTable('weighings', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  number: integer('number').notNull(),
+  ledgerVersionId: uuid('ledger_version_id').notNull().references(() => ledgerVersions.id),
+  inputStyle: inputStyle('input_style').notNull().default('sliders'),
+  showNames: boolean('show_names').notNull().default(false),
+  status: weighingStatus('status').notNull().default('open'),
+  /** Optional time limit: submissions after it are refused. */
+  closesAt: timestamp('closes_at', { withTimezone: true }),
+  openedBy: uuid('opened_by').references(() => users.id, { onDelete: 'set null' }),
+  openedAt: timestamp('opened_at', { withTimezone: true }).notNull().defaultNow(),
+  closedAt: timestamp('closed_at', { withTimezone: true }),
+  revealedAt: timestamp('revealed_at', { withTimezone: true }),
+}, t => [
+  unique('weighings_room_number').on(t.roomId, t.number),
+  // At most one open weighing per room, whatever races the routes lose.
+  uniqueIndex('weighings_one_open_per_room').on(t.roomId).where(sql`${t.status} = 'open'`),
+])
+
+/** One stakeholder's weights in one weighing; a new submission replaces the earlier one. */
+export const submissions = pgTable('submissions', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  weighingId: uuid('weighing_id').notNull().references(() => weighings.id, { onDelete: 'cascade' }),
+  userId: uuid('user_id').notNull().references(() => users.id, { onDelete: 'cascade' }),
+  /** Normalised weights (sum 1) in the criterion order of the weighing's ledger version. */
+  weights: jsonb('weights').$type<number[]>().notNull(),
+  /** For ranking input: criterion ids from most to least important (ties as nested arrays). */
+  ranking: jsonb('ranking').$type<(string | string[])[] | null>(),
+  /** The phone's key for this submission: a resend after a reconnect is recognised, not stored twice. */
+  idempotencyKey: text('idempotency_key').notNull(),
+  revision: integer('revision').notNull().default(1),
+  submittedAt: timestamp('submitted_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [unique('submissions_weighing_user').on(t.weighingId, t.userId)])
+
+/** Used by @socket.io/postgres-adapter for messages too large for NOTIFY (its documented table). */
+export const socketIoAttachments = pgTable('socket_io_attachments', {
+  id: bigserial('id', { mode: 'number' }).unique(),
+  createdAt: timestamp('created_at', { withTimezone: true }).defaultNow(),
+  payload: bytea('payload'),
+})
+
 export type User = typeof users.$inferSelect
 export type Room = typeof rooms.$inferSelect
 export type RoomMember = typeof roomMembers.$inferSelect
@@ -124,3 +171,5 @@ export type AuditEntry = typeof auditLog.$inferSelect
 export type LedgerVersion = typeof ledgerVersions.$inferSelect
 export type Invitation = typeof invitations.$inferSelect
 export type Attachment = typeof attachments.$inferSelect
+export type Weighing = typeof weighings.$inferSelect
+export type Submission = typeof submissions.$inferSelect

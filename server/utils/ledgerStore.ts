@@ -89,7 +89,8 @@ export const SUPPORT_CHECK_MAX_FRONT = 300
 // Versions never change, so their analysis can be kept; a few recent ones cover a meeting.
 const analysisCache = new Map<string, ReturnType<typeof analyseLedger>>()
 
-function analysisOf(version: LedgerVersion) {
+/** The engine's analysis of a version, computed once per process (versions never change). */
+export function analysisOf(version: LedgerVersion) {
   let analysis = analysisCache.get(version.id)
   if (!analysis) {
     analysis = analyseLedger(version.criteria, version.alternatives, { support: false })

@@ -1,0 +1,11 @@
+import { WeighingParams } from '../../../../../../shared/schemas/weighing'
+
+export default defineEventHandler(async (event) => {
+  const user = await requireUser(event)
+  const { id, weighingId } = validParams(event, WeighingParams)
+  await requireRoomPermission(id, user.id, 'weighing:run')
+  const weighing = await revealWeighing(id, weighingId, user.id)
+  await broadcastRoomState(id)
+  useRealtime()?.to(roomChannel(id)).emit('weighing:revealed', { roomId: id, weighingId })
+  return weighing
+})

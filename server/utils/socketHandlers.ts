@@ -1,0 +1,88 @@
+import type { Socket } from 'socket.io'
+import { JoinRoomBody, SubmitWeightsBody } from '../../shared/schemas/weighing'
+import { roleAllows } from '../../shared/roles'
+import type { Ack, ClientToServerEvents, ServerToClientEvents, SocketData } from '../../shared/types/realtime'
+import { fieldErrorsOf } from '../../shared/utils/fieldErrors'
+
+type RealtimeSocket = Socket<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>
+
+/** Events one socket may send per window before it is told to slow down. */
+export const SOCKET_EVENT_LIMIT = { events: 40, windowMs: 10_000 }
+
+/** An error as an answer: HTTP-like status and a message for the person, never a stack. */
+function failure(error: unknown): { ok: false, status: number, message: string } {
+  const e = error as { statusCode?: number, message?: string }
+  if (e?.statusCode && e.statusCode < 500) return { ok: false, status: e.statusCode, message: e.message ?? 'Refused.' }
+  console.error('[realtime] event failed:', error)
+  return { ok: false, status: 500, message: 'The server could not do that just now. Try again in a moment.' }
+}
+
+const answer = <T>(ack: unknown, value: Ack<T>) => {
+  if (typeof ack === 'function') ack(value)
+}
+
+/** Wire one authenticated socket's events. Every event re-checks membership and role in the database. */
+export function registerSocketHandlers(socket: RealtimeSocket) {
+  let windowStart = Date.now()
+  let used = 0
+  const allow = (event: string, ack: unknown) => {
+    const now = Date.now()
+    if (now - windowStart > SOCKET_EVENT_LIMIT.windowMs) {
+      windowStart = now
+      used = 0
+    }
+    if (++used <= SOCKET_EVENT_LIMIT.events) return true
+    const refused = { ok: false as const, status: 429, message: 'Too many events from this device; wait a few seconds.' }
+    answer(ack, refused)
+    socket.emit('failure', { event, status: 429, message: refused.message })
+    return false
+  }
+
+  socket.on('room:join', async (body, ack) => {
+    if (!allow('room:join', ack)) return
+    try {
+      const parsed = JoinRoomBody.safeParse(body)
+      if (!parsed.success) throw createError({ statusCode: 400, message: Object.values(fieldErrorsOf(parsed.error.issues))[0] })
+      const { roomId } = parsed.data
+      const { role } = await requireRoomMember(roomId, socket.data.userId)
+      await socket.join(roomChannel(roomId))
+      if (roleAllows(role, 'weighing:run')) await socket.join(facilitatorChannel(roomId))
+      socket.data.rooms.set(roomId, role)
+      const state = await liveState(roomId)
+      answer(ack, { ok: true, data: { role, state, mine: roleAllows(role, 'weights:submit') ? await mySubmission(roomId, socket.data.userId) : null } })
+      if (state.weighing && roleAllows(role, 'weighing:run')) {
+        socket.emit('weighing:names', { weighingId: state.weighing.id, names: await submittedNames(state.weighing.id) })
+      }
+    }
+    catch (error) {
+      const refused = failure(error)
+      answer(ack, refused)
+      socket.emit('failure', { event: 'room:join', status: refused.status, message: refused.message })
+    }
+  })
+
+  socket.on('room:leave', async (body) => {
+    const roomId = typeof body?.roomId === 'string' ? body.roomId : ''
+    socket.data.rooms.delete(roomId)
+    await socket.leave(roomChannel(roomId))
+    await socket.leave(facilitatorChannel(roomId))
+  })
+
+  socket.on('weights:submit', async (body, ack) => {
+    if (!allow('weights:submit', ack)) return
+    try {
+      const parsed = SubmitWeightsBody.safeParse(body)
+      if (!parsed.success) throw createError({ statusCode: 400, message: Object.values(fieldErrorsOf(parsed.error.issues))[0] })
+      const { role } = await requireRoomMember(parsed.data.roomId, socket.data.userId)
+      if (!roleAllows(role, 'weights:submit')) throw createError({ statusCode: 403, message: `Your role in this room (${role}) does not submit weights.` })
+      const { submission, changed } = await submitWeights(socket.data.userId, parsed.data)
+      answer(ack, { ok: true, data: submission })
+      if (changed) await broadcastRoomState(parsed.data.roomId)
+    }
+    catch (error) {
+      const refused = failure(error)
+      answer(ack, refused)
+      socket.emit('failure', { event: 'weights:submit', status: refused.status, message: refused.message })
+    }
+  })
+}
