@@ -77,7 +77,7 @@ try {
     // Never the development database: a cluster made for this run and removed after it.
     mkdirSync('/tmp', { recursive: true })
     dataDir = `${mkdtempSync('/tmp/counterpoise-test-')}/pg`
-    env.DATABASE_URL = ensureCluster({ dataDir, port: await freePort(), password: env.COUNTERPOISE_PG_PASSWORD, throwaway: true })
+    env.DATABASE_URL = ensureCluster({ dataDir, port: await freePort(), throwaway: true })
   }
   migrateAndSeed(env)
   mkdirSync('.tmp', { recursive: true })

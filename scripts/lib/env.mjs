@@ -15,7 +15,6 @@ export function parseEnv(text) {
 
 const GENERATED = {
   NUXT_SESSION_PASSWORD: () => randomBytes(32).toString('base64url'),
-  COUNTERPOISE_PG_PASSWORD: () => randomBytes(18).toString('base64url'),
 }
 
 /**

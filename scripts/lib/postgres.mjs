@@ -1,7 +1,8 @@
 // A PostgreSQL cluster of our own, from Debian's packages, on 127.0.0.1 and a port of our own.
 // PostgreSQL refuses to run as root, so as root every binary runs as the `postgres` user, from `/`,
 // with a data directory that user owns and can reach (not inside a repository under /root).
-import { chmodSync, existsSync, mkdirSync, readdirSync, rmSync } from 'node:fs'
+import { randomBytes } from 'node:crypto'
+import { chmodSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
 import { join } from 'node:path'
 import { capture, ensureDebianPackages, isRoot, log, run } from './run.mjs'
 
@@ -55,14 +56,19 @@ function prepareDir(dir) {
  * @param {object} o
  * @param {string} o.dataDir  owned by the cluster user, outside /root
  * @param {number} o.port
- * @param {string} o.password password of the app role (and of the superuser)
  * @param {boolean} [o.throwaway] trust auth and no fsync: for test clusters only
+ *
+ * The cluster belongs to the machine, not to one checkout, so its password is kept beside it
+ * (`app-password`, readable by its owner only): a second clone's `npm start` reuses it.
  */
-export function ensureCluster({ dataDir, port, password, throwaway = false, database = 'counterpoise', role = 'counterpoise' }) {
+export function ensureCluster({ dataDir, port, throwaway = false, database = 'counterpoise', role = 'counterpoise' }) {
   const bin = findBinaries()
   const parent = join(dataDir, '..')
   mkdirSync(parent, { recursive: true })
   if (isRoot()) chmodSync(parent, 0o755)
+  const passwordFile = join(parent, 'app-password')
+  if (!existsSync(passwordFile)) writeFileSync(passwordFile, randomBytes(18).toString('base64url'), { mode: 0o600 })
+  const password = readFileSync(passwordFile, 'utf8').trim()
 
   if (!existsSync(join(dataDir, 'PG_VERSION'))) {
     log(`creating a PostgreSQL cluster in ${dataDir}`)

@@ -23,7 +23,6 @@ export function prepareEnvironment({ dataDir, port, throwaway = false } = {}) {
     env.DATABASE_URL = ensureCluster({
       dataDir: dataDir ?? env.COUNTERPOISE_PG_DATA ?? defaultDataDir(),
       port: Number(port ?? env.COUNTERPOISE_PG_PORT ?? 54329),
-      password: env.COUNTERPOISE_PG_PASSWORD,
       throwaway,
     })
   }
