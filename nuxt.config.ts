@@ -33,6 +33,9 @@ export default defineNuxtConfig({
   compatibilityDate: '2026-11-01',
   nitro: {
     experimental: { websocket: true },
+    // Node ≥ 20.19 resolves the "module-sync" export condition (used by some of exceljs's small
+    // dependencies); without it the file tracer leaves those files out of .output.
+    exportConditions: ['module-sync'],
   },
   typescript: {
     strict: true,
