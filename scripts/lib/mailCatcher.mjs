@@ -69,12 +69,17 @@ export async function startMailCatcher({ port = 2525, dir = '.data/mail', host =
         .catch(error => callback(error))
     },
   })
-  server.on('error', error => console.error('[mail-catcher]', error.message))
+  let listening = false
+  // Errors while starting reject below (EADDRINUSE lets a caller try another port); later ones are logged.
+  server.on('error', (error) => {
+    if (listening) console.error('[mail-catcher]', error.message)
+  })
   await new Promise((resolvePromise, reject) => {
     const failed = error => reject(error)
     server.server.once('error', failed)
     server.listen(port, host, () => {
       server.server.off('error', failed)
+      listening = true
       resolvePromise()
     })
   })
