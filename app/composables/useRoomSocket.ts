@@ -1,0 +1,99 @@
+import { io, type Socket } from 'socket.io-client'
+import type { Ack, ClientToServerEvents, JoinedRoom, MySubmission, RoomLiveState, ServerToClientEvents } from '~~/shared/types/realtime'
+import type { RoomRole } from '~~/shared/roles'
+
+export type RoomSocket = Socket<ServerToClientEvents, ClientToServerEvents>
+export type ConnectionState = 'connecting' | 'connected' | 'reconnecting' | 'offline'
+
+/**
+ * The live connection to one room. Joins on every (re)connect — the PostgreSQL adapter keeps no
+ * state across reconnects, so the room is re-synced each time — and exposes the room's state,
+ * the caller's role and own submission, the facilitator's list of names, and the connection
+ * state for the indicator. Client-side only: call it from onMounted or a .client component.
+ */
+export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
+  const state = shallowRef<RoomLiveState | null>(null)
+  const role = ref<RoomRole | null>(null)
+  const mine = shallowRef<MySubmission | null>(null)
+  const names = ref<string[] | null>(null)
+  const connection = ref<ConnectionState>('connecting')
+  const lastFailure = ref<string | null>(null)
+  const revealed = createEventHook<{ weighingId: string }>()
+  const ledgerChanged = createEventHook<{ version: number }>()
+  const joined = createEventHook<JoinedRoom>()
+
+  // websocket first; long-polling only when the network refuses websockets.
+  const socket: RoomSocket = io({ transports: ['websocket', 'polling'], reconnectionDelayMax: 5000, withCredentials: true })
+
+  function join() {
+    socket.emit('room:join', { roomId: toValue(roomId) }, (answer: Ack<JoinedRoom>) => {
+      if (!answer.ok) {
+        lastFailure.value = answer.message
+        return
+      }
+      role.value = answer.data.role
+      state.value = answer.data.state
+      mine.value = answer.data.mine
+      joined.trigger(answer.data)
+    })
+  }
+
+  socket.on('connect', () => {
+    connection.value = 'connected'
+    join()
+  })
+  socket.on('disconnect', () => {
+    connection.value = navigator.onLine ? 'reconnecting' : 'offline'
+  })
+  socket.io.on('reconnect_attempt', () => {
+    connection.value = navigator.onLine ? 'reconnecting' : 'offline'
+  })
+  socket.on('connect_error', () => {
+    connection.value = navigator.onLine ? 'reconnecting' : 'offline'
+  })
+  socket.on('room:state', (next) => {
+    if (next.roomId === toValue(roomId)) state.value = next
+  })
+  socket.on('weighing:names', (list) => {
+    if (list.weighingId === state.value?.weighing?.id) names.value = list.names
+  })
+  socket.on('weighing:revealed', (body) => {
+    if (body.roomId === toValue(roomId)) revealed.trigger({ weighingId: body.weighingId })
+  })
+  socket.on('ledger:changed', (body) => {
+    if (body.roomId === toValue(roomId)) ledgerChanged.trigger({ version: body.version })
+  })
+  socket.on('failure', (body) => {
+    lastFailure.value = body.message
+  })
+
+  /** Send weights; resolves with the server's answer (after its commit), or rejects after `timeoutMs`. */
+  function submit(body: Parameters<ClientToServerEvents['weights:submit']>[0], timeoutMs = 8000) {
+    return new Promise<Ack<MySubmission>>((resolve, reject) => {
+      socket.timeout(timeoutMs).emit('weights:submit', body, (error: Error | null, answer: Ack<MySubmission>) => {
+        if (error) return reject(error)
+        if (answer.ok) mine.value = answer.data
+        resolve(answer)
+      })
+    })
+  }
+
+  tryOnScopeDispose(() => {
+    socket.emit('room:leave', { roomId: toValue(roomId) })
+    socket.disconnect()
+  })
+
+  return {
+    socket,
+    state,
+    role,
+    mine,
+    names,
+    connection,
+    lastFailure,
+    submit,
+    onRevealed: revealed.on,
+    onLedgerChanged: ledgerChanged.on,
+    onJoined: joined.on,
+  }
+}
