@@ -25,7 +25,8 @@
  *     ("nadir point") of its rows, as in the ND-Tree of Jaszkiewicz & Lust (IEEE TEVC 2018): a
  *     subtree whose ideal point is worse than the candidate somewhere holds no dominator, and one
  *     whose nadir point is no worse anywhere holds only dominators. Anti-correlated 10^5 × 6
- *     sets (front ≈ half the rows) take under a second this way instead of minutes.
+ *     sets (front ≈ half the rows) take under a second on a quiet machine this way, where a
+ *     linear window needs ~10^9 dominance tests (tests/bench/engine.bench.ts).
  *  4. Weak efficiency of the dominated rows, checked against the efficient rows only (see
  *     `markWeaklyEfficient` for why that is enough).
  */
@@ -174,8 +175,7 @@ function emptySets(n: number): ParetoSets {
  */
 export function paretoSets(canon: Float64Array, n: number, p: number, consider?: Uint8Array): ParetoSets {
   checkInputs(canon, n, p, consider)
-  const sets = emptySets(n)
-  if (n === 0) return sets
+  if (n === 0) return emptySets(0)
 
   const groupOf = new Int32Array(n)
   const { reps, lowest, highest } = collapseDuplicates(canon, n, p, consider, groupOf)
@@ -200,15 +200,42 @@ export function paretoSets(canon: Float64Array, n: number, p: number, consider?:
     markWeaklyEfficient(canon, p, reps, status, strictlyDominated, noStrictDominance)
   }
 
-  const { efficient, weaklyEfficient, dominator, duplicateOf } = sets
+  return spreadToRows(groupOf, reps, status, witness, strictlyDominated)
+}
+
+/*
+ * Implementation note: each hot loop lives in its own small function. V8 optimises a long loop
+ * while it runs (on-stack replacement); a function holding several such loops is deoptimised
+ * each time it reaches a loop it has no type feedback for yet, which made the first few calls on
+ * 10^6 rows several times slower than later ones.
+ */
+
+/** Every row's result from its vector's (each output written once, so no pre-filling). */
+function spreadToRows(
+  groupOf: Int32Array,
+  reps: Int32Array,
+  status: Uint8Array,
+  witness: Int32Array,
+  strictlyDominated: Uint8Array,
+): ParetoSets {
+  const n = groupOf.length
+  const efficient = new Uint8Array(n)
+  const weaklyEfficient = new Uint8Array(n)
+  const dominator = new Int32Array(n)
+  const duplicateOf = new Int32Array(n)
   let efficientCount = 0
   for (let i = 0; i < n; i++) {
     const g = groupOf[i]!
-    if (g < 0) continue
+    if (g < 0) {
+      dominator[i] = -1
+      duplicateOf[i] = -1
+      continue
+    }
     duplicateOf[i] = reps[g]!
     if (status[g] === STATUS_EFFICIENT) {
       efficient[i] = 1
       weaklyEfficient[i] = 1
+      dominator[i] = -1
       efficientCount++
     }
     else {
@@ -216,8 +243,7 @@ export function paretoSets(canon: Float64Array, n: number, p: number, consider?:
       dominator[i] = reps[witness[g]!]!
     }
   }
-  sets.efficientCount = efficientCount
-  return sets
+  return { efficient, weaklyEfficient, dominator, duplicateOf, efficientCount }
 }
 
 /**
@@ -234,15 +260,54 @@ function collapseDuplicates(
   consider: Uint8Array | undefined,
   groupOf: Int32Array,
 ): { reps: Int32Array, lowest: Float64Array, highest: Float64Array } {
-  let count = n
-  if (consider !== undefined) {
-    count = 0
-    for (let i = 0; i < n; i++) if (consider[i] === 1) count++
-  }
+  const count = consider === undefined ? n : countConsidered(consider, n)
   const lowest = new Float64Array(p).fill(Infinity)
   const highest = new Float64Array(p).fill(-Infinity)
   const hashes = new Uint32Array(count)
   const rowAt = new Int32Array(count)
+  hashRows(canon, n, p, consider, hashes, rowAt, groupOf, lowest, highest)
+
+  // groupOf now holds each considered row itself as its provisional representative. Rows are
+  // split by the top hash bits into cache-sized partitions (one stable scatter pass), and each
+  // partition is deduplicated with a small open-addressing table that stays in cache; a single
+  // table over 10^6 rows would cost a cache miss per row.
+  let partitionBits = 0
+  while (partitionBits < 16 && count >>> partitionBits > 512) partitionBits++
+  const partitions = 1 << partitionBits
+  const partitionStart = new Int32Array(partitions + 1)
+  let sortedHash = hashes
+  let sortedRow = rowAt
+  if (partitionBits > 0) {
+    countPartitions(hashes, partitionBits, partitionStart)
+    sortedHash = new Uint32Array(count)
+    sortedRow = new Int32Array(count)
+    scatterPartitions(hashes, rowAt, partitionBits, partitionStart, sortedHash, sortedRow)
+  }
+  else partitionStart[1] = count
+  linkDuplicates(canon, p, partitionStart, sortedHash, sortedRow, groupOf)
+  const reps = new Int32Array(count)
+  const m = numberGroups(groupOf, reps)
+  return { reps: reps.subarray(0, m), lowest, highest }
+}
+
+function countConsidered(consider: Uint8Array, n: number): number {
+  let count = 0
+  for (let i = 0; i < n; i++) if (consider[i] === 1) count++
+  return count
+}
+
+/** Validates and hashes the considered rows (−0 hashed as +0) and tracks each criterion's range. */
+function hashRows(
+  canon: Float64Array,
+  n: number,
+  p: number,
+  consider: Uint8Array | undefined,
+  hashes: Uint32Array,
+  rowAt: Int32Array,
+  groupOf: Int32Array,
+  lowest: Float64Array,
+  highest: Float64Array,
+): void {
   // Endianness does not matter: both 32-bit halves of each score go into the hash.
   const bits = new Uint32Array(canon.buffer, canon.byteOffset, n * p * 2)
   let c = 0
@@ -273,43 +338,51 @@ function collapseDuplicates(
     groupOf[i] = i
     c++
   }
+}
 
-  // groupOf temporarily holds the representative row of each considered row. Rows are split
-  // by the top hash bits into cache-sized partitions (one stable scatter pass), and each
-  // partition is deduplicated with a small open-addressing table that stays in cache; a single
-  // table over 10^6 rows would cost a cache miss per row.
-  let partitionBits = 0
-  while (partitionBits < 16 && count >>> partitionBits > 512) partitionBits++
-  const partitions = 1 << partitionBits
+/** partitionStart[q + 1] = rows in partition q, then prefix sums. */
+function countPartitions(hashes: Uint32Array, partitionBits: number, partitionStart: Int32Array): void {
   const shift = 32 - partitionBits
-  const partitionStart = new Int32Array(partitions + 1)
-  if (partitionBits > 0) for (let t = 0; t < count; t++) partitionStart[(hashes[t]! >>> shift) + 1]!++
-  else partitionStart[1] = count
+  for (let t = 0; t < hashes.length; t++) partitionStart[(hashes[t]! >>> shift) + 1]!++
+  for (let q = 1; q < partitionStart.length; q++) partitionStart[q] = partitionStart[q]! + partitionStart[q - 1]!
+}
+
+/** Stable scatter of (hash, row) into partition order. */
+function scatterPartitions(
+  hashes: Uint32Array,
+  rowAt: Int32Array,
+  partitionBits: number,
+  partitionStart: Int32Array,
+  sortedHash: Uint32Array,
+  sortedRow: Int32Array,
+): void {
+  const shift = 32 - partitionBits
+  const next = partitionStart.slice(0, partitionStart.length - 1)
+  for (let t = 0; t < hashes.length; t++) {
+    const h = hashes[t]!
+    const to = next[h >>> shift]!++
+    sortedHash[to] = h
+    sortedRow[to] = rowAt[t]!
+  }
+}
+
+/** Points every repeated vector's later rows (groupOf) at its first row, one partition at a time. */
+function linkDuplicates(
+  canon: Float64Array,
+  p: number,
+  partitionStart: Int32Array,
+  sortedHash: Uint32Array,
+  sortedRow: Int32Array,
+  groupOf: Int32Array,
+): void {
   let largest = 0
-  for (let q = 0; q < partitions; q++) {
-    const size = partitionStart[q + 1]!
-    if (size > largest) largest = size
-    partitionStart[q + 1] = partitionStart[q]! + size
-  }
-  let sortedHash = hashes
-  let sortedRow = rowAt
-  if (partitionBits > 0) {
-    sortedHash = new Uint32Array(count)
-    sortedRow = new Int32Array(count)
-    const next = partitionStart.slice(0, partitions)
-    for (let t = 0; t < count; t++) {
-      const h = hashes[t]!
-      const to = next[h >>> shift]!++
-      sortedHash[to] = h
-      sortedRow[to] = rowAt[t]!
-    }
-  }
+  for (let q = 1; q < partitionStart.length; q++) largest = Math.max(largest, partitionStart[q]! - partitionStart[q - 1]!)
   let tableSize = 2
   while (tableSize < largest * 2) tableSize *= 2
   const table = new Int32Array(tableSize) // position in the partition + 1, 0 = empty
-  for (let q = 0; q < partitions; q++) {
-    const from = partitionStart[q]!
-    const to = partitionStart[q + 1]!
+  for (let q = 1; q < partitionStart.length; q++) {
+    const from = partitionStart[q - 1]!
+    const to = partitionStart[q]!
     let size = 2
     while (size < (to - from) * 2) size *= 2
     const mask = size - 1
@@ -334,10 +407,12 @@ function collapseDuplicates(
       }
     }
   }
+}
 
-  const reps = new Int32Array(count)
+/** Turns groupOf from "first row of my vector" into a vector number, listing first rows in reps. Returns the count. */
+function numberGroups(groupOf: Int32Array, reps: Int32Array): number {
   let m = 0
-  for (let i = 0; i < n; i++) {
+  for (let i = 0; i < groupOf.length; i++) {
     const rep = groupOf[i]!
     if (rep < 0) continue
     if (rep === i) {
@@ -346,7 +421,7 @@ function collapseDuplicates(
     }
     else groupOf[i] = groupOf[rep]! // rep < i, already renumbered
   }
-  return { reps: reps.subarray(0, m), lowest, highest }
+  return m
 }
 
 function rowsEqual(a: Float64Array, offA: number, offB: number, p: number): boolean {
@@ -395,10 +470,21 @@ function pivotPrefilter(
   witness: Int32Array,
   strictlyDominated: Uint8Array,
 ): Int32Array {
-  const m = reps.length
-  // Factor of criterion d: offset[d] − slope[d]·x = (max − x) / (max − min), or 1 for a constant
-  // criterion. Halved terms so that max − min cannot overflow for scores near ±1.8e308; the
-  // pivot only steers speed, so rounding here cannot change a result.
+  const { offset, slope } = boxWeights(lowest, highest)
+  const firstPivot = largestDominatedBox(canon, p, reps, offset, slope)
+  const survivors = new Int32Array(reps.length)
+  const survivorCount = filterByPivot(canon, p, reps, firstPivot, status, witness, strictlyDominated, survivors)
+  if (status[firstPivot] === STATUS_DOMINATED) resolveWitnessChains(status, witness)
+  return survivors.subarray(0, survivorCount)
+}
+
+/**
+ * Weights of the dominated-box volume Π_d (offset[d] − slope[d]·x_d), where each factor is
+ * (max − x) / (max − min), or 1 for a constant criterion. Halved terms so that max − min cannot
+ * overflow for scores near ±1.8e308; pivots only steer speed, so rounding cannot change a result.
+ */
+function boxWeights(lowest: Float64Array, highest: Float64Array): { offset: Float64Array, slope: Float64Array } {
+  const p = lowest.length
   const offset = new Float64Array(p).fill(1)
   const slope = new Float64Array(p)
   for (let d = 0; d < p; d++) {
@@ -407,9 +493,13 @@ function pivotPrefilter(
     offset[d] = (highest[d]! / 2) * scale
     slope[d] = scale / 2
   }
+  return { offset, slope }
+}
+
+function largestDominatedBox(canon: Float64Array, p: number, reps: Int32Array, offset: Float64Array, slope: Float64Array): number {
   let pivot = 0
   let bestVolume = -Infinity
-  for (let k = 0; k < m; k++) {
+  for (let k = 0; k < reps.length; k++) {
     const base = reps[k]! * p
     let volume = 1
     for (let d = 0; d < p; d++) volume *= offset[d]! - slope[d]! * canon[base + d]!
@@ -418,12 +508,24 @@ function pivotPrefilter(
       pivot = k
     }
   }
+  return pivot
+}
 
-  const survivors = new Int32Array(m)
-  let survivorCount = 0
+/** The filtering pass of `pivotPrefilter`; returns the number of survivors written (the final pivot last). */
+function filterByPivot(
+  canon: Float64Array,
+  p: number,
+  reps: Int32Array,
+  firstPivot: number,
+  status: Uint8Array,
+  witness: Int32Array,
+  strictlyDominated: Uint8Array,
+  survivors: Int32Array,
+): number {
+  let pivot = firstPivot
   let q = reps[pivot]! * p
-  let replaced = false
-  for (let k = 0; k < m; k++) {
+  let survivorCount = 0
+  for (let k = 0; k < reps.length; k++) {
     if (k === pivot) continue
     const base = reps[k]! * p
     let d = 0
@@ -447,21 +549,22 @@ function pivotPrefilter(
       strictlyDominated[pivot] = strictlyBetter(canon, base, q, p) ? 1 : 0
       pivot = k
       q = base
-      replaced = true
       continue
     }
     survivors[survivorCount++] = k
   }
   survivors[survivorCount++] = pivot
-  if (replaced) {
-    for (let k = 0; k < m; k++) {
-      let w = witness[k]!
-      if (w < 0) continue
-      while (status[w] === STATUS_DOMINATED) w = witness[w]!
-      witness[k] = w
-    }
+  return survivorCount
+}
+
+/** Moves every witness down the chain of replaced pivots to the final, efficient one. */
+function resolveWitnessChains(status: Uint8Array, witness: Int32Array): void {
+  for (let k = 0; k < witness.length; k++) {
+    let w = witness[k]!
+    if (w < 0) continue
+    while (status[w] === STATUS_DOMINATED) w = witness[w]!
+    witness[k] = w
   }
-  return survivors.subarray(0, survivorCount)
 }
 
 /** Row at offA ≤ row at offB on every criterion (for distinct vectors: offA dominates offB). */
@@ -482,10 +585,14 @@ function sortedCopy(
   survivors: Int32Array,
   key: Float64Array,
 ): { rows: Float64Array, vectorAt: Int32Array } {
-  const s = survivors.length
   const sorted = sortByKey(key, survivors)
-  const sortedKey = sorted.key
-  const vectorAt = sorted.payload
+  breakTiesLexicographically(canon, p, reps, sorted.key, sorted.payload)
+  const rows = gatherRows(canon, p, reps, sorted.payload)
+  return { rows, vectorAt: sorted.payload }
+}
+
+function breakTiesLexicographically(canon: Float64Array, p: number, reps: Int32Array, sortedKey: Float64Array, vectorAt: Int32Array): void {
+  const s = sortedKey.length
   const lexicographic = (a: number, b: number): number => {
     const oa = reps[a]! * p
     const ob = reps[b]! * p
@@ -502,15 +609,20 @@ function sortedCopy(
     if (end - start > 1) vectorAt.subarray(start, end).sort(lexicographic)
     start = end
   }
-  const rows = new Float64Array(s * p)
-  for (let t = 0; t < s; t++) {
+}
+
+function gatherRows(canon: Float64Array, p: number, reps: Int32Array, vectorAt: Int32Array): Float64Array {
+  const rows = new Float64Array(vectorAt.length * p)
+  for (let t = 0; t < vectorAt.length; t++) {
     const from = reps[vectorAt[t]!]! * p
     for (let d = 0; d < p; d++) rows[t * p + d] = canon[from + d]!
   }
-  return { rows, vectorAt }
+  return rows
 }
 
 const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1
+const HI_WORD = LITTLE_ENDIAN ? 1 : 0
+const LO_WORD = 1 - HI_WORD
 
 /**
  * Copies of `key` and `payload` ordered by key ascending (equal keys in any order). Stable LSD
@@ -533,31 +645,11 @@ function sortByKey(key: Float64Array, payload: Int32Array): { key: Float64Array,
     }
     return { key: sortedKey, payload: sortedPayload }
   }
-  const hiWord = LITTLE_ENDIAN ? 1 : 0
-  const loWord = 1 - hiWord
   let current = key.slice()
   let next = new Float64Array(s)
-  let currentBits = new Uint32Array(current.buffer)
-  let nextBits = new Uint32Array(next.buffer)
   let currentPayload = payload.slice()
   let nextPayload = new Int32Array(s)
-  const counts = new Int32Array(6 * 2048)
-  for (let i = 0; i < s; i++) {
-    let h = currentBits[2 * i + hiWord]!
-    let l = currentBits[2 * i + loWord]!
-    // Negative floats: flip all bits; positive: flip the sign bit. Unsigned order = numeric order.
-    if (h >>> 31) {
-      h = ~h
-      l = ~l
-    }
-    else h |= 0x80000000
-    counts[l & 2047]!++
-    counts[2048 + ((l >>> 11) & 2047)]!++
-    counts[4096 + (((l >>> 22) | (h << 10)) & 2047)]!++
-    counts[6144 + ((h >>> 1) & 2047)]!++
-    counts[8192 + ((h >>> 12) & 2047)]!++
-    counts[10240 + ((h >>> 23) & 511)]!++
-  }
+  const counts = radixHistograms(current)
   for (let pass = 0; pass < 6; pass++) {
     const base = pass * 2048
     let sum = 0
@@ -569,36 +661,58 @@ function sortByKey(key: Float64Array, payload: Int32Array): { key: Float64Array,
       sum += c
     }
     if (skip) continue
-    for (let i = 0; i < s; i++) {
-      let h = currentBits[2 * i + hiWord]!
-      let l = currentBits[2 * i + loWord]!
-      if (h >>> 31) {
-        h = ~h
-        l = ~l
-      }
-      else h |= 0x80000000
-      let digit: number
-      if (pass === 0) digit = l & 2047
-      else if (pass === 1) digit = (l >>> 11) & 2047
-      else if (pass === 2) digit = ((l >>> 22) | (h << 10)) & 2047
-      else if (pass === 3) digit = (h >>> 1) & 2047
-      else if (pass === 4) digit = (h >>> 12) & 2047
-      else digit = (h >>> 23) & 511
-      const to = counts[base + digit]!++
-      next[to] = current[i]!
-      nextPayload[to] = currentPayload[i]!
-    }
+    radixScatter(current, currentPayload, next, nextPayload, counts, pass)
     const swapKey = current
     current = next
     next = swapKey
-    const swapBits = currentBits
-    currentBits = nextBits
-    nextBits = swapBits
     const swapPayload = currentPayload
     currentPayload = nextPayload
     nextPayload = swapPayload
   }
   return { key: current, payload: currentPayload }
+}
+
+/**
+ * The 11-bit digit `pass` (0 = lowest) of a float's order-preserving unsigned pattern: negative
+ * floats get all bits flipped, positive ones the sign bit.
+ */
+function radixDigit(hi: number, lo: number, pass: number): number {
+  let h = hi
+  let l = lo
+  if (h >>> 31) {
+    h = ~h
+    l = ~l
+  }
+  else h |= 0x80000000
+  switch (pass) {
+    case 0: return l & 2047
+    case 1: return (l >>> 11) & 2047
+    case 2: return ((l >>> 22) | (h << 10)) & 2047
+    case 3: return (h >>> 1) & 2047
+    case 4: return (h >>> 12) & 2047
+    default: return (h >>> 23) & 511
+  }
+}
+
+function radixHistograms(key: Float64Array): Int32Array {
+  const bits = new Uint32Array(key.buffer, key.byteOffset, key.length * 2)
+  const counts = new Int32Array(6 * 2048)
+  for (let i = 0; i < key.length; i++) {
+    const hi = bits[2 * i + HI_WORD]!
+    const lo = bits[2 * i + LO_WORD]!
+    for (let pass = 0; pass < 6; pass++) counts[pass * 2048 + radixDigit(hi, lo, pass)]!++
+  }
+  return counts
+}
+
+function radixScatter(key: Float64Array, payload: Int32Array, nextKey: Float64Array, nextPayload: Int32Array, counts: Int32Array, pass: number): void {
+  const bits = new Uint32Array(key.buffer, key.byteOffset, key.length * 2)
+  const base = pass * 2048
+  for (let i = 0; i < key.length; i++) {
+    const to = counts[base + radixDigit(bits[2 * i + HI_WORD]!, bits[2 * i + LO_WORD]!, pass)]!++
+    nextKey[to] = key[i]!
+    nextPayload[to] = payload[i]!
+  }
 }
 
 /**
@@ -621,6 +735,11 @@ function sweepTwoCriteria(
   // + 0 folds −0 into +0 so that equal first scores form one run.
   for (let k = 0; k < s; k++) key[k] = canon[reps[survivors[k]!]! * 2]! + 0
   const { rows, vectorAt } = sortedCopy(canon, 2, reps, survivors, key)
+  sweepSorted(rows, vectorAt, status, witness, strictlyDominated)
+}
+
+function sweepSorted(rows: Float64Array, vectorAt: Int32Array, status: Uint8Array, witness: Int32Array, strictlyDominated: Uint8Array): void {
+  const s = vectorAt.length
   let best = -1
   let bestSecond = Infinity
   let closedMin = Infinity // min of the second criterion over rows with a smaller first criterion
@@ -672,14 +791,7 @@ function sortFilterSkyline(
   strictlyDominated: Uint8Array,
 ): void {
   const s = survivors.length
-  const key = new Float64Array(s)
-  for (let k = 0; k < s; k++) {
-    const base = reps[survivors[k]!]! * p
-    let sum = 0
-    for (let d = 0; d < p; d++) sum += canon[base + d]!
-    key[k] = sum
-  }
-  const { rows, vectorAt } = sortedCopy(canon, p, reps, survivors, key)
+  const { rows, vectorAt } = sortedCopy(canon, p, reps, survivors, sumKeys(canon, p, reps, survivors))
   const buffer = new Int32Array(WINDOW_BUFFER)
   let buffered = 0
   const levels: (DominanceTree | null)[] = []
@@ -703,24 +815,41 @@ function sortFilterSkyline(
     status[k] = STATUS_EFFICIENT
     buffer[buffered++] = t
     if (buffered === WINDOW_BUFFER && t + 1 < s) {
-      let j = 0
-      let size = WINDOW_BUFFER
-      while (j < levels.length && levels[j]) {
-        size += levels[j]!.ids.length
-        j++
-      }
-      const ids = new Int32Array(size)
-      ids.set(buffer)
-      let at = WINDOW_BUFFER
-      for (let lower = 0; lower < j; lower++) {
-        ids.set(levels[lower]!.ids, at)
-        at += levels[lower]!.ids.length
-        levels[lower] = null
-      }
-      levels[j] = buildTree(rows, p, ids)
+      mergeLevels(rows, p, buffer, levels)
       buffered = 0
     }
   }
+}
+
+/** Binary-counter step of the logarithmic method: the full buffer and every tree below the first gap become one tree. */
+function mergeLevels(rows: Float64Array, p: number, buffer: Int32Array, levels: (DominanceTree | null)[]): void {
+  let j = 0
+  let size = buffer.length
+  while (j < levels.length && levels[j]) {
+    size += levels[j]!.ids.length
+    j++
+  }
+  const ids = new Int32Array(size)
+  ids.set(buffer)
+  let at = buffer.length
+  for (let lower = 0; lower < j; lower++) {
+    ids.set(levels[lower]!.ids, at)
+    at += levels[lower]!.ids.length
+    levels[lower] = null
+  }
+  levels[j] = buildTree(rows, p, ids)
+}
+
+/** Sum of each survivor's scores, starting from +0 so that no key is −0. */
+function sumKeys(canon: Float64Array, p: number, reps: Int32Array, survivors: Int32Array): Float64Array {
+  const key = new Float64Array(survivors.length)
+  for (let k = 0; k < survivors.length; k++) {
+    const base = reps[survivors[k]!]! * p
+    let sum = 0
+    for (let d = 0; d < p; d++) sum += canon[base + d]!
+    key[k] = sum
+  }
+  return key
 }
 
 function strictlyBetter(a: Float64Array, offA: number, offB: number, p: number): boolean {
