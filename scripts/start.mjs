@@ -4,6 +4,7 @@ import process from 'node:process'
 import { DEMO } from './lib/demo-banner.mjs'
 import { log, run, start } from './lib/run.mjs'
 import { buildIsStale, ensureDependencies, ensureMail, migrateAndSeed, prepareEnvironment } from './lib/setup.mjs'
+import { ensureDevSigningCert } from './lib/signingCert.mjs'
 
 process.chdir(new URL('..', import.meta.url).pathname)
 const dev = process.argv.includes('--dev')
@@ -11,6 +12,9 @@ const dev = process.argv.includes('--dev')
 try {
   ensureDependencies()
   const env = prepareEnvironment()
+  // Without a configured signing key, a development CA and signer in .data/signing (git-ignored).
+  const signing = ensureDevSigningCert({ env })
+  Object.assign(env, { COUNTERPOISE_SIGNING_P12: signing.p12Path, COUNTERPOISE_SIGNING_PASSPHRASE: signing.passphrase, COUNTERPOISE_SIGNING_CA: signing.caCertPath })
   migrateAndSeed(env)
   const mail = await ensureMail(env)
   const port = env.PORT || '3000'

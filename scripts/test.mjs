@@ -10,13 +10,14 @@ import { loadEnv } from './lib/env.mjs'
 import { ensureCluster, stopCluster } from './lib/postgres.mjs'
 import { ensureDebianPackages, log, run } from './lib/run.mjs'
 import { ensureDependencies, ensureMail, migrateAndSeed } from './lib/setup.mjs'
+import { ensureDevSigningCert } from './lib/signingCert.mjs'
 
 process.chdir(new URL('..', import.meta.url).pathname)
 const only = process.argv.slice(2) // e.g. `npm test -- unit server`
 const wanted = step => only.length === 0 || only.includes(step)
 
 /** Debian packages the tests use: the browser, and the outside references for the engine. */
-const TEST_PACKAGES = ['chromium', 'python3-deap', 'glpk-utils', 'python3-scipy']
+const TEST_PACKAGES = ['chromium', 'python3-deap', 'glpk-utils', 'python3-scipy', 'poppler-utils', 'libnss3-tools', 'openssl']
 
 const freePort = () => new Promise((resolve, reject) => {
   const probe = createServer()
@@ -70,6 +71,8 @@ try {
   if (!ensureDebianPackages(TEST_PACKAGES)) throw new Error(`the tests need the Debian packages ${TEST_PACKAGES.join(', ')}`)
   const env = { ...loadEnv(), CI: process.env.CI ?? '' }
   delete env.BASE_URL
+  const signing = ensureDevSigningCert({ env })
+  Object.assign(env, { COUNTERPOISE_SIGNING_P12: signing.p12Path, COUNTERPOISE_SIGNING_PASSPHRASE: signing.passphrase, COUNTERPOISE_SIGNING_CA: signing.caCertPath })
   if (env.TEST_DATABASE_URL) {
     env.DATABASE_URL = env.TEST_DATABASE_URL
   }
