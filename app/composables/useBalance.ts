@@ -1,0 +1,455 @@
+import type { Ref, ShallowRef } from 'vue'
+import { useLocalStorage } from '@vueuse/core'
+import type { Alternative, Criterion } from '~~/shared/types/decision'
+import type { Favourite, LedgerAnalysis } from '~~/shared/types/engine'
+import type { MySubmission, WeighingInfo } from '~~/shared/types/realtime'
+import { analyseLedger } from '~~/shared/utils/ledger'
+import { innerPercentBounds, largestRemainderPercentages } from '~~/shared/utils/percentages'
+import { weightsFromRanking } from '~~/shared/utils/ranking'
+import { weightedSumFavourite } from '~~/shared/utils/scalarise'
+import { weightStability } from '~~/shared/utils/stability'
+import { joinWords } from '~~/shared/statusVocabulary'
+import type { useRoomSocket } from '~/composables/useRoomSocket'
+
+/** Criterion ids, most important first; a nested array is a tie (as `SubmitWeightsBody.ranking`). */
+export type CriterionRanking = (string | string[])[]
+
+/** One row of the ranking list: a criterion, and whether it shares the rank of the row above. */
+export interface RankItem {
+  id: string
+  tiedWithAbove: boolean
+}
+
+// ---------------------------------------------------------------------------------------------
+// Pure helpers (no reactivity): the page and its components call these.
+
+const analyses = new Map<string, LedgerAnalysis | null>()
+
+/**
+ * The engine's analysis of one ledger version, computed once per version on this device
+ * (versions never change). Support LPs are skipped: the phone only needs the efficient table.
+ * Null when the ledger cannot be analysed.
+ */
+export function analysisOfVersion(key: string, criteria: readonly Criterion[], alternatives: readonly Alternative[]): LedgerAnalysis | null {
+  if (!analyses.has(key)) {
+    let analysis: LedgerAnalysis | null
+    try {
+      analysis = analyseLedger(criteria, alternatives, { support: false })
+    }
+    catch {
+      analysis = null
+    }
+    analyses.set(key, analysis)
+    if (analyses.size > 8) analyses.delete(analyses.keys().next().value!)
+  }
+  return analyses.get(key) ?? null
+}
+
+/**
+ * Coupled sliders: criterion k is set to `share` (0–1) and the others share the rest in the
+ * proportions they had in `anchor` (the weights when this slider was first touched), which is
+ * the path `weightStability` measures along. When k had everything, the rest is shared equally.
+ * The result sums to 1 (up to rounding).
+ */
+export function reweigh(anchor: readonly number[], k: number, share: number): number[] {
+  const s = Math.min(1, Math.max(0, share))
+  if (anchor.length === 1) return [1]
+  const rest = anchor.reduce((sum, w, j) => (j === k ? sum : sum + w), 0)
+  return anchor.map((w, j) => {
+    if (j === k) return s
+    return rest > 1e-12 ? (w * (1 - s)) / rest : (1 - s) / (anchor.length - 1)
+  })
+}
+
+/** Equal weights for `p` criteria. */
+export const equalWeights = (p: number) => Array.from({ length: p }, () => 1 / p)
+
+/** The ranking to submit from the list rows. */
+export function rankingOfItems(items: readonly RankItem[]): CriterionRanking {
+  const groups: string[][] = []
+  items.forEach((item, i) => {
+    if (i > 0 && item.tiedWithAbove) groups[groups.length - 1]!.push(item.id)
+    else groups.push([item.id])
+  })
+  return groups.map(g => (g.length === 1 ? g[0]! : g))
+}
+
+/** List rows from a ranking; criteria it does not name go to the end, unknown ids are dropped. */
+export function itemsOfRanking(ranking: CriterionRanking | null | undefined, criterionIds: readonly string[]): RankItem[] {
+  const known = new Set(criterionIds)
+  const seen = new Set<string>()
+  const items: RankItem[] = []
+  for (const entry of ranking ?? []) {
+    let first = true
+    for (const id of [entry].flat()) {
+      if (!known.has(id) || seen.has(id)) continue
+      seen.add(id)
+      items.push({ id, tiedWithAbove: !first && items.length > 0 })
+      first = false
+    }
+  }
+  for (const id of criterionIds) if (!seen.has(id)) items.push({ id, tiedWithAbove: false })
+  return items
+}
+
+/** Weights in criterion order from the list rows (rank-order centroid; ties share). */
+export function weightsOfItems(items: readonly RankItem[], criterionIds: readonly string[]): number[] {
+  const rank = new Map<string, number>()
+  let group = -1
+  items.forEach((item, i) => {
+    if (i === 0 || !item.tiedWithAbove) group++
+    rank.set(item.id, group)
+  })
+  return weightsFromRanking(criterionIds.map(id => rank.get(id) ?? group + 1))
+}
+
+/**
+ * Move the row at `from` to `to`. A moved criterion leaves any tie it was in, and no tie is made
+ * by the move: the rows that were tied to it from below, and the row it lands above, become
+ * ranks of their own. Ties are only ever made with the "same as above" toggle.
+ */
+export function moveRankItem(items: readonly RankItem[], from: number, to: number): RankItem[] {
+  if (from === to || from < 0 || to < 0 || from >= items.length || to >= items.length) return [...items]
+  const next = items.map(item => ({ ...item }))
+  if (next[from + 1]) next[from + 1]!.tiedWithAbove = false
+  const [moved] = next.splice(from, 1)
+  moved!.tiedWithAbove = false
+  next.splice(to, 0, moved!)
+  if (next[to + 1]) next[to + 1]!.tiedWithAbove = false
+  next[0]!.tiedWithAbove = false
+  return next
+}
+
+/** What the beam shows: names at both ends and the scores (0–1, 1 = best of the shortlist everywhere). */
+export interface BeamReading {
+  favourites: string[]
+  runnersUp: string[]
+  favouriteScore: number | null
+  runnerUpScore: number | null
+}
+
+export function beamReadingOf(analysis: LedgerAnalysis, favourite: Favourite, nameOf: (id: string) => string): BeamReading {
+  const ids = analysis.normalised.alternativeIds
+  const scoreOf = (id: string | undefined) => (id === undefined ? null : favourite.scores[ids.indexOf(id)] ?? null)
+  return {
+    favourites: favourite.winners.map(nameOf),
+    runnersUp: favourite.runnersUp.map(nameOf),
+    favouriteScore: scoreOf(favourite.winners[0]),
+    runnerUpScore: scoreOf(favourite.runnersUp[0]),
+  }
+}
+
+/**
+ * One sentence on how firmly the favourite holds as criterion k's weight moves (the others
+ * keeping their proportions, as the sliders do): "Your favourite stays the same while Capital
+ * cost is between 18% and 41%" with who takes over beyond each end. Empty when there is nothing
+ * to say (no favourite, one criterion).
+ */
+export function stabilitySentence(analysis: LedgerAnalysis, favourite: Favourite, k: number, nameOf: (id: string) => string): string {
+  const criterion = analysis.criteria[k]
+  if (!criterion || favourite.winners.length === 0 || analysis.criteria.length < 2) return ''
+  if (favourite.winners.length > 1) {
+    return `${joinWords(favourite.winners.map(nameOf))} are level at these weights: a small change to any weight can decide between them.`
+  }
+  if (favourite.runnersUp.length === 0) return `${nameOf(favourite.winners[0]!)} is the only alternative on the shortlist, whatever the weights.`
+  let interval
+  try {
+    interval = weightStability(analysis, favourite.weights, favourite.winners[0])?.intervals[k]
+  }
+  catch {
+    return ''
+  }
+  if (!interval) return ''
+  const name = criterion.name
+  const { low, high } = innerPercentBounds(interval.lowest, interval.highest)
+  const below = interval.takenOverBelow && nameOf(interval.takenOverBelow)
+  const above = interval.takenOverAbove && nameOf(interval.takenOverAbove)
+  if (!below && !above) return `Your favourite stays the same whatever weight ${name} has.`
+  if (low > high) return `Your favourite is close to a tie: a change of 1% in ${name} can change it.`
+  if (!below) return `Your favourite stays the same while ${name} is at most ${high}%; above that, ${above} takes over.`
+  if (!above) return `Your favourite stays the same while ${name} is at least ${low}%; below that, ${below} takes over.`
+  return `Your favourite stays the same while ${name} is between ${low}% and ${high}% (below: ${below}; above: ${above}).`
+}
+
+/** An idempotency key, made once per submission. Works outside secure contexts (no randomUUID). */
+export function newSubmissionKey(): string {
+  const bytes = crypto.getRandomValues(new Uint8Array(16))
+  return `balance-${Array.from(bytes, b => b.toString(16).padStart(2, '0')).join('')}`
+}
+
+const sameWeights = (a: readonly number[] | null | undefined, b: readonly number[] | null | undefined) =>
+  !!a && !!b && a.length === b.length && a.every((x, k) => Math.abs(x - b[k]!) < 1e-6)
+
+// ---------------------------------------------------------------------------------------------
+// The reactive state of one stakeholder's balance.
+
+/** A submission made on this phone and not yet acknowledged by the server. */
+export interface PendingSubmission {
+  weighingId: string
+  idempotencyKey: string
+  weights?: number[]
+  ranking?: CriterionRanking
+  madeAt: string
+}
+
+/** Slider or ranking positions not sent yet, kept so a reload loses nothing. */
+export interface BalanceDraft {
+  weights: number[]
+  ranking: CriterionRanking | null
+  savedAt: string
+}
+
+interface StoredBalance {
+  pending: PendingSubmission | null
+  draft: BalanceDraft | null
+}
+
+export type SubmitState = 'unsent' | 'changed' | 'sending' | 'queued' | 'confirmed' | 'refused'
+
+export interface BalanceOptions {
+  roomId: string
+  weighing: Ref<WeighingInfo | null>
+  criteria: Ref<readonly Criterion[]>
+  analysis: Ref<LedgerAnalysis | null>
+  nameOf: (id: string) => string
+  /** The room's live socket, once the page is mounted. */
+  socket: ShallowRef<ReturnType<typeof useRoomSocket> | null>
+  /** The caller's own submission (from the first fetch, then from the socket). */
+  mine: Ref<MySubmission | null>
+}
+
+/**
+ * The stakeholder's weights for the open weighing: coupled sliders or a ranking, percentages that
+ * sum to 100, the favourite and runner-up computed here with the shared engine, a stability
+ * sentence, and a submission that survives going offline and reloading (kept in local storage
+ * per room and weighing, sent once the socket is back; the idempotency key keeps a resend from
+ * counting twice).
+ */
+export function useBalance(options: BalanceOptions) {
+  const { weighing, criteria, analysis, socket, mine, nameOf } = options
+  const criterionIds = computed(() => criteria.value.map(c => c.id))
+  const p = computed(() => criteria.value.length)
+  const isRanking = computed(() => weighing.value?.inputStyle === 'ranking')
+
+  const stored = useLocalStorage<StoredBalance>(
+    () => `counterpoise:balance:${options.roomId}:${weighing.value?.id ?? 'none'}`,
+    { pending: null, draft: null },
+    { writeDefaults: false, initOnMounted: true, mergeDefaults: true },
+  )
+
+  const weights = ref<number[]>([])
+  const items = ref<RankItem[]>([])
+  /** The weights when the slider being moved was first touched (see `reweigh`). */
+  let anchor: { k: number, weights: number[] } | null = null
+  /** Whether the inputs were moved since they were last loaded. */
+  let touched = false
+  /** The criterion last moved, for the stability sentence. */
+  const activeIndex = ref<number | null>(null)
+  const sending = ref(false)
+  const refusal = ref<string | null>(null)
+  const online = useOnline()
+
+  const mineHere = computed(() => (mine.value && mine.value.weighingId === weighing.value?.id ? mine.value : null))
+
+  /** Weights in criterion order, as the engine reads them. */
+  const effectiveWeights = computed<number[]>(() => {
+    if (p.value === 0) return []
+    if (isRanking.value) return items.value.length === p.value ? weightsOfItems(items.value, criterionIds.value) : equalWeights(p.value)
+    return weights.value.length === p.value ? weights.value : equalWeights(p.value)
+  })
+  const percents = computed(() => largestRemainderPercentages(effectiveWeights.value))
+
+  const favourite = computed<Favourite | null>(() => {
+    if (!analysis.value || analysis.value.normalised.n === 0 || effectiveWeights.value.length === 0) return null
+    try {
+      return weightedSumFavourite(analysis.value, effectiveWeights.value)
+    }
+    catch {
+      return null
+    }
+  })
+  const beam = computed(() => (analysis.value && favourite.value ? beamReadingOf(analysis.value, favourite.value, nameOf) : null))
+
+  const stabilityIndex = computed(() => {
+    if (activeIndex.value !== null && activeIndex.value < p.value) return activeIndex.value
+    const w = effectiveWeights.value
+    return w.length ? w.indexOf(Math.max(...w)) : 0
+  })
+  const stability = computed(() => (analysis.value && favourite.value ? stabilitySentence(analysis.value, favourite.value, stabilityIndex.value, nameOf) : ''))
+
+  function load(source: { weights?: number[] | null, ranking?: CriterionRanking | null } | null) {
+    anchor = null
+    touched = false
+    activeIndex.value = null
+    const ws = source?.weights
+    weights.value = ws && ws.length === p.value && ws.some(w => w > 0)
+      ? (() => {
+          const sum = ws.reduce((a, b) => a + b, 0)
+          return ws.map(w => w / sum)
+        })()
+      : equalWeights(p.value)
+    items.value = itemsOfRanking(source?.ranking ?? null, criterionIds.value)
+  }
+
+  /** Put the newest of: the unsent submission, the unsent draft, the own submission, into the inputs. */
+  function restore() {
+    if (!weighing.value || p.value === 0) return
+    const saved = stored.value
+    const candidates: [number, { weights?: number[] | null, ranking?: CriterionRanking | null }][] = []
+    if (saved.pending?.weighingId === weighing.value.id) candidates.push([Date.parse(saved.pending.madeAt), saved.pending])
+    if (saved.draft) candidates.push([Date.parse(saved.draft.savedAt), saved.draft])
+    if (mineHere.value) candidates.push([Date.parse(mineHere.value.submittedAt), mineHere.value])
+    candidates.sort((a, b) => b[0] - a[0])
+    load(candidates[0]?.[1] ?? null)
+  }
+
+  const inputsKey = computed(() => `${weighing.value?.id ?? ''}:${criterionIds.value.join(',')}`)
+  watch(inputsKey, restore, { immediate: true, flush: 'post' })
+  onMounted(restore)
+  // A submission confirmed from elsewhere (another tab, a reconnect) shows when nothing is being edited.
+  watch(mineHere, (m) => {
+    if (m && !touched && !stored.value.pending && !stored.value.draft) load(m)
+  })
+
+  /** Slider k moved to `percent` (0–100). */
+  function adjust(k: number, percent: number) {
+    if (anchor?.k !== k) anchor = { k, weights: [...effectiveWeights.value] }
+    weights.value = reweigh(anchor.weights, k, percent / 100)
+    touched = true
+    activeIndex.value = k
+    refusal.value = null
+  }
+  /** The ranking list changed. */
+  function rank(next: RankItem[], movedId?: string) {
+    items.value = next
+    touched = true
+    if (movedId) activeIndex.value = criterionIds.value.indexOf(movedId)
+    refusal.value = null
+    saveDraft()
+  }
+  /** A gesture ended: keep the positions so a reload finds them. */
+  function saveDraft() {
+    const draft: BalanceDraft = { weights: [...effectiveWeights.value], ranking: isRanking.value ? rankingOfItems(items.value) : null, savedAt: new Date().toISOString() }
+    stored.value = { ...stored.value, draft: matchesMine.value ? null : draft }
+  }
+
+  const currentBody = computed(() => (isRanking.value ? { ranking: rankingOfItems(items.value) } : { weights: [...effectiveWeights.value] }))
+  const matches = (sub: { weights?: number[] | null, ranking?: CriterionRanking | null } | null) => {
+    if (!sub) return false
+    const body = currentBody.value
+    if ('ranking' in body) return !!sub.ranking && JSON.stringify(sub.ranking) === JSON.stringify(body.ranking)
+    return sameWeights(sub.weights, body.weights)
+  }
+  const matchesMine = computed(() => matches(mineHere.value))
+  const pendingHere = computed(() => (stored.value.pending?.weighingId === weighing.value?.id ? stored.value.pending : null))
+
+  const submitState = computed<SubmitState>(() => {
+    if (pendingHere.value) return sending.value ? 'sending' : 'queued'
+    if (refusal.value) return 'refused'
+    if (mineHere.value) return matchesMine.value ? 'confirmed' : 'changed'
+    return 'unsent'
+  })
+  /** Whether Submit would send something new. */
+  const canSubmit = computed(() => {
+    if (weighing.value?.status !== 'open' || !favourite.value) return false
+    if (pendingHere.value) return !matches(pendingHere.value)
+    return !matchesMine.value
+  })
+
+  /** Submit the current weights: kept first (so nothing is lost), then sent when the socket can. */
+  function submit() {
+    if (!weighing.value || !canSubmit.value) return
+    refusal.value = null
+    stored.value = {
+      pending: { weighingId: weighing.value.id, idempotencyKey: newSubmissionKey(), madeAt: new Date().toISOString(), ...currentBody.value },
+      draft: null,
+    }
+    void flush()
+  }
+
+  let retry: ReturnType<typeof setTimeout> | undefined
+  const retryLater = () => {
+    clearTimeout(retry)
+    retry = setTimeout(() => void flush(), 4000)
+  }
+  onScopeDispose(() => clearTimeout(retry))
+
+  /** Send the kept submission, one at a time, until none is left or the connection is gone. */
+  async function flush() {
+    if (sending.value) return
+    for (;;) {
+      const pending = stored.value.pending
+      const live = socket.value
+      if (!pending || !live) return
+      if (live.connection.value !== 'connected' || !navigator.onLine) return
+      sending.value = true
+      let answer: Awaited<ReturnType<typeof live.submit>> | null
+      try {
+        answer = await live.submit({
+          roomId: options.roomId,
+          weighingId: pending.weighingId,
+          idempotencyKey: pending.idempotencyKey,
+          ...(pending.ranking ? { ranking: pending.ranking } : { weights: pending.weights }),
+        })
+      }
+      catch {
+        answer = null
+      }
+      finally {
+        sending.value = false
+      }
+      const stillThisOne = stored.value.pending?.idempotencyKey === pending.idempotencyKey
+      if (answer === null || (!answer.ok && (answer.status === 429 || answer.status >= 500))) {
+        // No answer in time, or the server is busy: it stays kept and goes again later.
+        retryLater()
+        return
+      }
+      if (stillThisOne) stored.value = { ...stored.value, pending: null }
+      if (!answer.ok) {
+        if (stillThisOne) {
+          refusal.value = answer.message
+          // Keep what was set, so it can be sent again if that makes sense.
+          stored.value = { ...stored.value, draft: { weights: pending.weights ?? [...effectiveWeights.value], ranking: pending.ranking ?? null, savedAt: new Date().toISOString() } }
+        }
+        return
+      }
+    }
+  }
+
+  // Send a kept submission as soon as the connection is back (and after a reload).
+  watch(() => socket.value?.connection.value, (state) => {
+    if (state === 'connected') void flush()
+  })
+  watch(online, (isOnline) => {
+    if (isOnline) void flush()
+  })
+  watch(socket, (live) => {
+    live?.onJoined(({ mine: joined }) => {
+      // An acknowledgement lost with the connection: the server already holds this key.
+      const pending = stored.value.pending
+      if (pending && joined && joined.idempotencyKey === pending.idempotencyKey) stored.value = { ...stored.value, pending: null }
+      void flush()
+    })
+  })
+
+  return {
+    weights: effectiveWeights,
+    items,
+    percents,
+    favourite,
+    beam,
+    stability,
+    stabilityIndex,
+    activeIndex,
+    submitState,
+    canSubmit,
+    refusal,
+    pending: pendingHere,
+    mine: mineHere,
+    adjust,
+    rank,
+    saveDraft,
+    submit,
+    flush,
+  }
+}
