@@ -13,8 +13,13 @@ import { ensureDependencies, ensureMail, migrateAndSeed } from './lib/setup.mjs'
 import { ensureDevSigningCert } from './lib/signingCert.mjs'
 
 process.chdir(new URL('..', import.meta.url).pathname)
-const only = process.argv.slice(2) // e.g. `npm test -- unit server`
+// Steps to run, e.g. `npm test -- unit server`; arguments that are paths pick test files within
+// those steps, e.g. `npm test -- server tests/server/crash.test.ts` or `npm test -- e2e tests/e2e/balance.spec.ts`.
+const args = process.argv.slice(2)
+const files = args.filter(a => a.includes('/') || /\.(test|spec)\.ts$/.test(a))
+const only = args.filter(a => !files.includes(a))
 const wanted = step => only.length === 0 || only.includes(step)
+const filesFor = dir => files.filter(f => f.replace(/^\.\//, '').startsWith(dir))
 
 /** Debian packages the tests use: the browser, and the outside references for the engine. */
 const TEST_PACKAGES = ['chromium', 'python3-deap', 'glpk-utils', 'python3-scipy', 'poppler-utils', 'libnss3-tools', 'openssl']
@@ -90,7 +95,7 @@ try {
 
   if (wanted('lint')) await check('lint (eslint)', 'npx', ['eslint', '.'], env)
   if (wanted('typecheck')) await check('type check (vue-tsc)', 'npx', ['nuxt', 'typecheck'], env)
-  if (wanted('unit')) await suite('unit tests (vitest)', 'vitest', 'npx', ['vitest', 'run', '--project', 'unit', '--reporter=default', '--reporter=json', '--outputFile=.tmp/unit.json'], env, '.tmp/unit.json')
+  if (wanted('unit')) await suite('unit tests (vitest)', 'vitest', 'npx', ['vitest', 'run', '--project', 'unit', '--reporter=default', '--reporter=json', '--outputFile=.tmp/unit.json', ...filesFor('tests/unit')], env, '.tmp/unit.json')
 
   if (wanted('server') || wanted('e2e')) {
     log('building')
@@ -106,8 +111,8 @@ try {
       await new Promise(resolve => setTimeout(resolve, 200))
     }
     const testEnv = { ...env, BASE_URL: baseUrl }
-    if (wanted('server')) await suite('server tests (vitest)', 'vitest', 'npx', ['vitest', 'run', '--project', 'server', '--reporter=default', '--reporter=json', '--outputFile=.tmp/server.json'], testEnv, '.tmp/server.json')
-    if (wanted('e2e')) await suite('end-to-end tests (playwright, chromium)', 'playwright', 'npx', ['playwright', 'test'], { ...testEnv, PLAYWRIGHT_JSON: '.tmp/e2e.json' }, '.tmp/e2e.json')
+    if (wanted('server')) await suite('server tests (vitest)', 'vitest', 'npx', ['vitest', 'run', '--project', 'server', '--reporter=default', '--reporter=json', '--outputFile=.tmp/server.json', ...filesFor('tests/server')], testEnv, '.tmp/server.json')
+    if (wanted('e2e')) await suite('end-to-end tests (playwright, chromium)', 'playwright', 'npx', ['playwright', 'test', ...filesFor('tests/e2e')], { ...testEnv, PLAYWRIGHT_JSON: '.tmp/e2e.json' }, '.tmp/e2e.json')
   }
 }
 catch (error) {

@@ -1,9 +1,9 @@
 import { io, type Socket } from 'socket.io-client'
-import type { Ack, ClientToServerEvents, JoinedRoom, MySubmission, RoomLiveState, ServerToClientEvents } from '~~/shared/types/realtime'
+import type { Ack, ClientToServerEvents, HandshakeRefusal, JoinedRoom, MySubmission, RoomLiveState, ServerToClientEvents } from '~~/shared/types/realtime'
 import type { RoomRole } from '~~/shared/roles'
 
 export type RoomSocket = Socket<ServerToClientEvents, ClientToServerEvents>
-export type ConnectionState = 'connecting' | 'connected' | 'reconnecting' | 'offline'
+export type ConnectionState = 'connecting' | 'connected' | 'reconnecting' | 'offline' | 'signed-out'
 
 /**
  * The live connection to one room. Joins on every (re)connect — the PostgreSQL adapter keeps no
@@ -38,8 +38,21 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
     })
   }
 
+  // socket.io gives up after a handshake refused by the server (say, a server restarting whose
+  // session check failed, or a session that ended): retry ourselves, backing off to 15 s.
+  let retryTimer: ReturnType<typeof setTimeout> | undefined
+  let retryDelay = 1000
+  function retryLater() {
+    clearTimeout(retryTimer)
+    retryTimer = setTimeout(() => {
+      if (!socket.connected) socket.connect()
+    }, retryDelay)
+    retryDelay = Math.min(retryDelay * 2, 15_000)
+  }
+
   socket.on('connect', () => {
     connection.value = 'connected'
+    retryDelay = 1000
     join()
   })
   socket.on('disconnect', () => {
@@ -48,8 +61,14 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   socket.io.on('reconnect_attempt', () => {
     connection.value = navigator.onLine ? 'reconnecting' : 'offline'
   })
-  socket.on('connect_error', () => {
+  socket.on('connect_error', (error: Error & { data?: { reason?: HandshakeRefusal } }) => {
     connection.value = navigator.onLine ? 'reconnecting' : 'offline'
+    if (socket.active) return // a network failure: the manager retries by itself
+    if (error.data?.reason === 'signed-out') {
+      connection.value = 'signed-out'
+      lastFailure.value = error.message
+    }
+    retryLater()
   })
   socket.on('room:state', (next) => {
     if (next.roomId === toValue(roomId)) state.value = next
@@ -79,6 +98,7 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   }
 
   tryOnScopeDispose(() => {
+    clearTimeout(retryTimer)
     socket.emit('room:leave', { roomId: toValue(roomId) })
     socket.disconnect()
   })

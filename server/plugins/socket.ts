@@ -5,6 +5,7 @@ import pg from 'pg'
 import { Server } from 'socket.io'
 import { createEvent, defineEventHandler } from 'h3'
 import type { RealtimeServer } from '../utils/realtime'
+import type { HandshakeRefusal } from '../../shared/types/realtime'
 
 /**
  * socket.io inside Nitro (in `nuxt dev` and in the built server alike): an engine.io Engine handles
@@ -28,19 +29,24 @@ export default defineNitroPlugin((nitroApp) => {
 
   // Authenticate once, at the handshake, from the session cookie; sign-out disconnects the user's sockets.
   io.use(async (socket, next) => {
+    let session: Awaited<ReturnType<typeof getUserSession>>
     try {
       const event = createEvent(socket.request, new ServerResponse(socket.request))
-      const session = await getUserSession(event)
-      if (!session.user) return next(new Error('Sign in first.'))
-      socket.data.userId = session.user.id
-      socket.data.displayName = session.user.displayName
-      socket.data.rooms = new Map()
-      await socket.join(userChannel(session.user.id))
-      next()
+      // Nitro's own request handler sets this context; the session helpers read the runtime
+      // config through it. Without it, a fresh process refused every socket until its first page.
+      event.context.nitro = { errors: [] }
+      session = await getUserSession(event)
     }
-    catch {
-      next(new Error('Sign in first.'))
+    catch (error) {
+      console.error('[realtime] handshake could not read the session:', (error as Error).message)
+      return next(handshakeError('The server could not check your sign-in; trying again.', 'unavailable'))
     }
+    if (!session.user) return next(handshakeError('Sign in first.', 'signed-out'))
+    socket.data.userId = session.user.id
+    socket.data.displayName = session.user.displayName
+    socket.data.rooms = new Map()
+    await socket.join(userChannel(session.user.id))
+    next()
   })
   io.on('connection', registerSocketHandlers)
   setRealtime(io)
@@ -65,3 +71,8 @@ export default defineNitroPlugin((nitroApp) => {
     await io.close()
   })
 })
+
+/** A refused handshake; `data.reason` tells the client whether signing in again would help. */
+function handshakeError(message: string, reason: HandshakeRefusal) {
+  return Object.assign(new Error(message), { data: { reason } })
+}

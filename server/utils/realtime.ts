@@ -18,12 +18,41 @@ export const roomChannel = (roomId: string) => `room:${roomId}`
 export const facilitatorChannel = (roomId: string) => `room:${roomId}:facilitators`
 export const userChannel = (userId: string) => `user:${userId}`
 
+/** Shortest gap between two state broadcasts to one room (per process); changes in between are coalesced. */
+export const BROADCAST_GAP_MS = 100
+
+/** Rooms with a broadcast under way or just sent, and whether another change came meanwhile. */
+const throttled = new Map<string, { again: boolean }>()
+
 /**
  * Tell everyone in the room (in every process, through the PostgreSQL adapter) where the room
- * stands, and the facilitators who has submitted. Never throws: a broadcast that fails must not
- * undo a committed change; phones re-sync on their next join.
+ * stands, and the facilitators who has submitted. The first change is sent at once; changes that
+ * come while one is being sent, or within BROADCAST_GAP_MS of it, are coalesced into one more
+ * broadcast after the gap, so a burst of 500 submissions costs a few dozen broadcasts, not 500,
+ * and the last state always goes out. Never throws: a broadcast that fails must not undo a
+ * committed change; phones re-sync on their next join.
  */
-export async function broadcastRoomState(roomId: string) {
+export async function broadcastRoomState(roomId: string): Promise<void> {
+  if (!io) return
+  const slot = throttled.get(roomId)
+  if (slot) {
+    slot.again = true
+    return
+  }
+  const mine = { again: false }
+  throttled.set(roomId, mine)
+  try {
+    await sendRoomState(roomId)
+  }
+  finally {
+    setTimeout(() => {
+      throttled.delete(roomId)
+      if (mine.again) void broadcastRoomState(roomId)
+    }, BROADCAST_GAP_MS).unref()
+  }
+}
+
+async function sendRoomState(roomId: string) {
   if (!io) return
   try {
     const state = await liveState(roomId)

@@ -105,12 +105,16 @@ export async function openWeighing(roomId: string, userId: string, body: OpenWei
   })
 }
 
-/** The weighing row, locked for the rest of `tx`, with its ledger version; 404 when not this room's. */
-async function lockedWeighing(tx: Tx, roomId: string, weighingId: string) {
+/**
+ * The weighing row, locked for the rest of `tx`, with its ledger version; 404 when not this room's.
+ * `share` for submissions (many commit side by side; closing waits for them, and they wait for a
+ * close), `update` for closing and revealing.
+ */
+async function lockedWeighing(tx: Tx, roomId: string, weighingId: string, strength: 'update' | 'share' = 'update') {
   const [row] = await tx.select({ weighing: weighings, version: ledgerVersions }).from(weighings)
     .innerJoin(ledgerVersions, eq(ledgerVersions.id, weighings.ledgerVersionId))
     .where(and(eq(weighings.id, weighingId), eq(weighings.roomId, roomId)))
-    .for('update', { of: weighings })
+    .for(strength, { of: weighings })
   if (!row) throw createError({ statusCode: 404, message: 'No such weighing in this room.' })
   return row
 }
@@ -157,12 +161,15 @@ export function weightsOfRanking(ranking: (string | string[])[], criterionIds: r
 /**
  * Store a stakeholder's weights in an open weighing, replacing their earlier submission.
  * Idempotent: the same idempotency key returns the stored submission and changes nothing, so a
- * phone that resends after a reconnect is never counted twice. The weighing row is locked, so a
- * submission is either in before the weighing closes or refused. Acknowledged only after commit.
+ * phone that resends after a reconnect is never counted twice. The weighing row is share-locked,
+ * so a submission is either in before the weighing closes or refused. Acknowledged only after commit.
  */
 export async function submitWeights(userId: string, body: SubmitWeightsBody): Promise<{ submission: MySubmission, changed: boolean }> {
   return useDb().transaction(async (tx) => {
-    const { weighing, version } = await lockedWeighing(tx, body.roomId, body.weighingId)
+    const { weighing, version } = await lockedWeighing(tx, body.roomId, body.weighingId, 'share')
+    // One stakeholder's submissions to one weighing go one at a time (two tabs, or a resend racing
+    // its original), so the revision count and the one-row-per-person rule hold without a retry.
+    await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`submission:${weighing.id}:${userId}`}, 0))`)
     const [existing] = await tx.select().from(submissions).where(and(eq(submissions.weighingId, weighing.id), eq(submissions.userId, userId)))
     if (existing && existing.idempotencyKey === body.idempotencyKey) return { submission: mySubmissionOf(existing), changed: false }
     if (weighing.status !== 'open') throw createError({ statusCode: 409, message: `Weighing ${weighing.number} is closed; your weights were not recorded.` })

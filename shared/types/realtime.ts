@@ -5,6 +5,7 @@
  */
 import type { RoomRole } from '../roles'
 import type { InputStyle, WeighingStatus } from '../weighing'
+import type { BallotChoice, MyBallot, VoteView } from './resolution'
 
 export interface WeighingInfo {
   id: string
@@ -47,18 +48,26 @@ export interface MySubmission {
   submittedAt: string
 }
 
+/** Why the server refused a socket's handshake (`connect_error`'s `data.reason`). */
+export type HandshakeRefusal = 'signed-out' | 'unavailable'
+
 export type Ack<T> = { ok: true, data: T } | { ok: false, status: number, message: string }
 
 export interface JoinedRoom {
   role: RoomRole
   state: RoomLiveState
   mine: MySubmission | null
+  /** The open (or latest) final vote, and the caller's ballot in it (stakeholders only). */
+  vote?: VoteView | null
+  myBallot?: MyBallot | null
 }
 
 export interface ClientToServerEvents {
   'room:join': (body: { roomId: string }, ack: (answer: Ack<JoinedRoom>) => void) => void
   'room:leave': (body: { roomId: string }) => void
   'weights:submit': (body: { roomId: string, weighingId: string, idempotencyKey: string, weights?: number[], ranking?: (string | string[])[] }, ack: (answer: Ack<MySubmission>) => void) => void
+  /** A stakeholder's ballot in the open final vote; acknowledged after it is stored. */
+  'ballot:cast': (body: { roomId: string, voteId: string, idempotencyKey: string, choices: Record<string, BallotChoice> }, ack: (answer: Ack<MyBallot>) => void) => void
 }
 
 export interface ServerToClientEvents {
@@ -67,6 +76,10 @@ export interface ServerToClientEvents {
   /** A weighing was revealed: fetch its results. */
   'weighing:revealed': (body: { roomId: string, weighingId: string }) => void
   'ledger:changed': (body: { roomId: string, version: number }) => void
+  /** The final vote and its live tally (with who chose what only for facilitators, and only when the room shows names). */
+  'vote:state': (body: { roomId: string, vote: VoteView | null }) => void
+  /** A resolution was recorded, edited, amended or frozen: fetch the list again. */
+  'resolution:changed': (body: { roomId: string }) => void
   /** An event was refused (bad input, wrong role, too many events); nothing was changed. */
   'failure': (body: { event: string, status: number, message: string }) => void
 }
