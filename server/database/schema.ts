@@ -1,4 +1,5 @@
 import { sql } from 'drizzle-orm'
+import type { AnyPgColumn } from 'drizzle-orm/pg-core'
 import { bigserial, boolean, customType, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, unique, uniqueIndex, uuid } from 'drizzle-orm/pg-core'
 import { ROOM_ROLES, ROOM_STATUSES, SITE_ROLES } from '../../shared/roles'
 import type { Alternative, Criterion } from '../../shared/types/decision'
@@ -157,6 +158,70 @@ export const submissions = pgTable('submissions', {
   submittedAt: timestamp('submitted_at', { withTimezone: true }).notNull().defaultNow(),
 }, t => [unique('submissions_weighing_user').on(t.weighingId, t.userId)])
 
+export const voteStatus = pgEnum('vote_status', ['open', 'closed'])
+
+/** A final vote on a shortlist of one ledger version: approve / object / abstain per alternative. */
+export const votes = pgTable('votes', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  ledgerVersionId: uuid('ledger_version_id').notNull().references(() => ledgerVersions.id),
+  /** Alternative ids on the ballot, in ballot order. */
+  shortlist: jsonb('shortlist').$type<string[]>().notNull(),
+  status: voteStatus('status').notNull().default('open'),
+  openedBy: uuid('opened_by').references(() => users.id, { onDelete: 'set null' }),
+  openedAt: timestamp('opened_at', { withTimezone: true }).notNull().defaultNow(),
+  closedAt: timestamp('closed_at', { withTimezone: true }),
+}, t => [uniqueIndex('votes_one_open_per_room').on(t.roomId).where(sql`${t.status} = 'open'`)])
+
+/** One stakeholder's ballot in one vote; casting again replaces it until the vote closes. */
+export const ballots = pgTable('ballots', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  voteId: uuid('vote_id').notNull().references(() => votes.id, { onDelete: 'cascade' }),
+  userId: uuid('user_id').notNull().references(() => users.id, { onDelete: 'cascade' }),
+  /** Alternative id → 'approve' | 'object' | 'abstain', for every alternative on the ballot. */
+  choices: jsonb('choices').$type<Record<string, 'approve' | 'object' | 'abstain'>>().notNull(),
+  idempotencyKey: text('idempotency_key').notNull(),
+  revision: integer('revision').notNull().default(1),
+  castAt: timestamp('cast_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [unique('ballots_vote_user').on(t.voteId, t.userId)])
+
+/**
+ * The decision as the facilitator records it. Once the secretary signs minutes citing it,
+ * `frozen_at` is set and a database trigger refuses every later change; corrections are new rows
+ * whose `amends` names the original.
+ */
+export const resolutions = pgTable('resolutions', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  amends: uuid('amends').references((): AnyPgColumn => resolutions.id),
+  ledgerVersionId: uuid('ledger_version_id').notNull().references(() => ledgerVersions.id),
+  alternativeId: text('alternative_id').notNull(),
+  /** The engine's status of the chosen alternative in that version, at the time of recording. */
+  engineStatus: text('engine_status').notNull(),
+  justification: text('justification'),
+  rationale: text('rationale').notNull(),
+  conditions: text('conditions').notNull().default(''),
+  dissent: text('dissent').notNull().default(''),
+  recordedBy: uuid('recorded_by').references(() => users.id, { onDelete: 'set null' }),
+  recordedAt: timestamp('recorded_at', { withTimezone: true }).notNull().defaultNow(),
+  frozenAt: timestamp('frozen_at', { withTimezone: true }),
+}, t => [index('resolutions_room').on(t.roomId, t.recordedAt)])
+
+/** Signed minutes: the exact PDF bytes and their SHA-256, so a copy can be checked later. */
+export const minutesRecords = pgTable('minutes_records', {
+  id: uuid('id').primaryKey().defaultRandom(),
+  roomId: uuid('room_id').notNull().references(() => rooms.id, { onDelete: 'cascade' }),
+  resolutionId: uuid('resolution_id').notNull().references(() => resolutions.id),
+  sha256: text('sha256').notNull(),
+  pdf: bytea('pdf').notNull(),
+  fileName: text('file_name').notNull(),
+  signer: text('signer').notNull(),
+  signedBy: uuid('signed_by').references(() => users.id, { onDelete: 'set null' }),
+  signedAt: timestamp('signed_at', { withTimezone: true }).notNull().defaultNow(),
+  sentAt: timestamp('sent_at', { withTimezone: true }),
+  sentTo: integer('sent_to').notNull().default(0),
+}, t => [uniqueIndex('minutes_records_sha256').on(t.sha256)])
+
 /** Used by @socket.io/postgres-adapter for messages too large for NOTIFY (its documented table). */
 export const socketIoAttachments = pgTable('socket_io_attachments', {
   id: bigserial('id', { mode: 'number' }).unique(),
@@ -173,3 +238,7 @@ export type Invitation = typeof invitations.$inferSelect
 export type Attachment = typeof attachments.$inferSelect
 export type Weighing = typeof weighings.$inferSelect
 export type Submission = typeof submissions.$inferSelect
+export type Vote = typeof votes.$inferSelect
+export type Ballot = typeof ballots.$inferSelect
+export type Resolution = typeof resolutions.$inferSelect
+export type MinutesRecord = typeof minutesRecords.$inferSelect
