@@ -13,7 +13,8 @@ function binDir() {
   return versions.length ? join(base, versions[0], 'bin') : null
 }
 
-function findBinaries() {
+/** The directory of Debian's PostgreSQL binaries (the newest installed), installing them if need be. */
+export function findBinaries() {
   let bin = binDir()
   if (!bin) {
     if (!ensureDebianPackages(['postgresql'])) throw new Error('PostgreSQL is not installed and cannot be installed without root. Install it, or set DATABASE_URL.')
