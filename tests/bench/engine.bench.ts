@@ -24,6 +24,12 @@
  * n ≤ 10k plus a dedicated 20k × 4 uniform row); peak RSS of the cell's process. Both references
  * must return the same efficient set, or the bench fails.
  *
+ * Acceptability rows (shared/utils/acceptability.ts, SMAA-2): `acceptability(table, { samples })`
+ * on 100 efficient alternatives × 6 criteria (points of the positive unit sphere, maximised, so
+ * none dominates another), 10,000 weight draws, by weighted sum and by reference point; the
+ * "front" column is the number of efficient alternatives and "ns/score" is per draw, alternative
+ * and criterion. `--acceptability` runs only these rows.
+ *
  * Not run: no cell of the grid is skipped; the reference is left out above 10k rows (10^10 pair
  * tests at 100k) and DEAP above 10k rows (pure Python: 0.4–3.5 s per cell at 10k here, so, by
  * estimate, about a minute or more per cell at 100k). Runs per cell:
@@ -35,6 +41,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs'
 import { cpus, loadavg, tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { fileURLToPath } from 'node:url'
+import { acceptability, mulberry32, type AcceptabilityModel } from '../../shared/utils/acceptability'
+import { normaliseTable } from '../../shared/utils/normalise'
 import { paretoSets, paretoSetsReference } from '../../shared/utils/pareto'
 
 const SHAPES = ['uniform', 'correlated', 'anti-correlated'] as const
@@ -54,6 +62,9 @@ interface Cell {
   deap: boolean
   /** DEAP repetitions (median taken inside Python). */
   deapRuns: number
+  /** Set for an acceptability (SMAA-2) cell: the ranking model, with `samples` weight draws. */
+  smaa?: AcceptabilityModel
+  samples?: number
 }
 
 interface CellResult {
@@ -123,8 +134,48 @@ function sameList(a: number[], b: number[]): boolean {
   return a.length === b.length && a.every((v, i) => v === b[i])
 }
 
+/** An acceptability cell: n points of the positive unit sphere in p dimensions (all efficient), `samples` draws. */
+function runAcceptabilityCell(cell: Cell): CellResult {
+  const { n, p } = cell
+  const random = mulberry32(n * 31 + p)
+  const raw = new Float64Array(n * p)
+  for (let i = 0; i < n; i++) {
+    let squares = 0
+    for (let k = 0; k < p; k++) {
+      raw[i * p + k] = random() + 1e-3
+      squares += raw[i * p + k]! ** 2
+    }
+    for (let k = 0; k < p; k++) raw[i * p + k] = raw[i * p + k]! / Math.sqrt(squares)
+  }
+  const canon = raw.map(x => -x)
+  const sets = paretoSets(canon, n, p)
+  const best = new Float64Array(p).fill(-Infinity)
+  const worst = new Float64Array(p).fill(Infinity)
+  for (let i = 0; i < n * p; i++) {
+    best[i % p] = Math.max(best[i % p]!, raw[i]!)
+    worst[i % p] = Math.min(worst[i % p]!, raw[i]!)
+  }
+  const ids = Array.from({ length: n }, (_, i) => `a${i}`)
+  const table = normaliseTable(Array.from({ length: p }, (_, k) => `c${k}`), new Array(p).fill('max'), ids, raw, best, worst)
+  const options = { model: cell.smaa, samples: cell.samples, seed: 1 }
+  for (let k = 0; k < 3; k++) acceptability(table, { ...options, samples: 1000 })
+  const times: number[] = []
+  const cpuTimes: number[] = []
+  for (let r = 0; r < cell.runs; r++) {
+    const cpuStart = process.cpuUsage()
+    const start = performance.now()
+    acceptability(table, options)
+    times.push(performance.now() - start)
+    const cpu = process.cpuUsage(cpuStart)
+    cpuTimes.push((cpu.user + cpu.system) / 1000)
+  }
+  const peakRssBytes = process.resourceUsage().maxRSS * 1024
+  return { cell, medianMs: median(times), medianCpuMs: median(cpuTimes), front: sets.efficientCount, referenceMs: null, deapMs: null, peakRssBytes, note: `${cell.samples} draws` }
+}
+
 /** Runs one cell in this process; the parent reads the JSON line it prints. */
 function runCell(cell: Cell): CellResult {
+  if (cell.smaa !== undefined) return runAcceptabilityCell(cell)
   const { shape, n, p } = cell
   const seed = (SHAPES.indexOf(shape) + 1) * 1_000_003 + n * 31 + p
   if (n > 0) {
@@ -228,7 +279,11 @@ function printRow(values: string[]): void {
   }).join('  ').trimEnd())
 }
 
-function gridCells(quick: boolean): Cell[] {
+const SMAA_CELLS: Cell[] = (['weighted-sum', 'reference-point'] as const).map(smaa => (
+  { shape: 'uniform', n: 100, p: 6, runs: 11, reference: false, deap: false, deapRuns: 0, smaa, samples: 10_000 }))
+
+function gridCells(quick: boolean, onlyAcceptability: boolean): Cell[] {
+  if (onlyAcceptability) return [...SMAA_CELLS]
   const cells: Cell[] = []
   const sizes = quick ? [1000, 10_000] : [1000, 10_000, 100_000, 1_000_000]
   const dims = quick ? [2, 4, 6] : [2, 3, 4, 6, 8]
@@ -246,6 +301,7 @@ function gridCells(quick: boolean): Cell[] {
     cells.push({ shape: 'anti-correlated', n: 100_000, p: 6, runs: 3, reference: false, deap: false, deapRuns: 0 })
     cells.push({ shape: 'uniform', n: 1_000_000, p: 4, runs: 3, reference: false, deap: false, deapRuns: 0 })
   }
+  cells.push(...SMAA_CELLS)
   return cells
 }
 
@@ -256,6 +312,7 @@ function main(): void {
     return
   }
   const quick = process.argv.includes('--quick')
+  const onlyAcceptability = process.argv.includes('--acceptability')
   const began = performance.now()
   const deapVersion = spawnSync(PYTHON, ['-c', 'import deap; print(deap.__version__)'], { encoding: 'utf8' })
   console.log(`Pareto core benchmark${quick ? ' (--quick)' : ''}: node ${process.version}, ${cpus().length} × ${cpus()[0]?.model ?? 'cpu'}, `
@@ -268,25 +325,26 @@ function main(): void {
   printRow(COLUMNS.map(([name]) => name))
   const results: CellResult[] = []
   let failures = 0
-  for (const cell of gridCells(quick)) {
+  const label = (cell: Cell) => (cell.smaa === undefined ? cell.shape : cell.smaa === 'weighted-sum' ? 'SMAA-2 sum' : 'SMAA-2 ref-pt')
+  for (const cell of gridCells(quick, onlyAcceptability)) {
     const result = spawnCell(cell)
     if (typeof result === 'string') {
       failures++
-      printRow([cell.shape, formatCount(cell.n), String(cell.p), String(cell.runs), '—', '—', '—', '—', '—', '—', '—', `FAILED: ${result}`])
+      printRow([label(cell), formatCount(cell.n), String(cell.p), String(cell.runs), '—', '—', '—', '—', '—', '—', '—', `FAILED: ${result}`])
       continue
     }
     results.push(result)
     if (result.note.includes('MISMATCH') || result.note.includes('failed')) failures++
     const { medianMs, referenceMs, deapMs } = result
     printRow([
-      cell.shape,
+      label(cell),
       formatCount(cell.n),
       String(cell.p),
       String(cell.runs),
       formatMs(medianMs),
       formatMs(result.medianCpuMs),
       String(result.front),
-      (medianMs * 1e6 / (cell.n * cell.p)).toFixed(1),
+      (medianMs * 1e6 / (cell.n * cell.p * (cell.samples ?? 1))).toFixed(1),
       formatRatio(referenceMs === null ? null : referenceMs / medianMs),
       formatRatio(deapMs === null ? null : deapMs / medianMs),
       `${(result.peakRssBytes / 2 ** 20).toFixed(0)} MB`,
@@ -294,11 +352,15 @@ function main(): void {
     ])
   }
 
-  const find = (shape: Shape, n: number, p: number) => results.find(r => r.cell.shape === shape && r.cell.n === n && r.cell.p === p)
+  const find = (shape: Shape, n: number, p: number) => results.find(r => r.cell.smaa === undefined && r.cell.shape === shape && r.cell.n === n && r.cell.p === p)
   const verdict = (ok: boolean | null) => (ok === null ? 'N/A ' : ok ? 'PASS' : 'MISS')
   // Judged on wall time, as asked; CPU time is shown so that a miss caused by other load is visible.
   const timed = (r: CellResult | undefined) => (r ? `${formatMs(r.medianMs)} (CPU ${formatMs(r.medianCpuMs)})` : 'not run')
   console.log(`\nTargets (baseline RSS of an empty cell process: ${(baselineRss / 2 ** 20).toFixed(0)} MB)`)
+  for (const model of ['weighted-sum', 'reference-point'] as const) {
+    const smaa = results.find(r => r.cell.smaa === model)
+    console.log(`  ${verdict(smaa ? smaa.medianMs < 1000 : null)}  acceptability (${model}) 10k draws × 100 efficient × 6 under 1 s: ${timed(smaa)}`)
+  }
   const big = find('uniform', 1_000_000, 4)
   console.log(`  ${verdict(big ? big.medianMs < 400 : null)}  1M × 4 uniform under 400 ms: ${timed(big)}`)
   const anti = find('anti-correlated', 100_000, 6)
@@ -310,8 +372,9 @@ function main(): void {
 
   // O(n·p) memory: the extra RSS of a cell over an empty process, per byte of input matrix, must stay
   // bounded (≤ 10 here) at the largest n, and grow about linearly from 100k to 1M rows.
-  const largest = Math.max(...results.map(r => r.cell.n))
-  const perInput = results.filter(r => r.cell.n === largest).map(r => ({
+  const pareto = results.filter(r => r.cell.smaa === undefined)
+  const largest = Math.max(...pareto.map(r => r.cell.n))
+  const perInput = pareto.filter(r => r.cell.n === largest).map(r => ({
     r,
     ratio: (r.peakRssBytes - baselineRss) / (r.cell.n * r.cell.p * 8),
   }))
