@@ -1,3 +1,5 @@
+import { linkNitroSelfReferences } from './scripts/lib/nitroSelfLinks'
+
 // https://nuxt.com/docs/api/configuration/nuxt-config
 export default defineNuxtConfig({
   modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', '@vueuse/nuxt', 'nuxt-auth-utils', '@nuxt/eslint'],
@@ -36,6 +38,12 @@ export default defineNuxtConfig({
     // Node ≥ 20.19 resolves the "module-sync" export condition (used by some of exceljs's small
     // dependencies); without it the file tracer leaves those files out of .output.
     exportConditions: ['module-sync'],
+    hooks: {
+      // pdfkit brings @noble/hashes 1.x and pkijs 2.x; see scripts/lib/nitroSelfLinks.ts.
+      compiled(nitro) {
+        linkNitroSelfReferences(nitro.options.output.serverDir)
+      },
+    },
   },
   typescript: {
     strict: true,
