@@ -4,11 +4,10 @@ import type { Alternative, Criterion } from '~~/shared/types/decision'
 import type { Favourite, LedgerAnalysis } from '~~/shared/types/engine'
 import type { MySubmission, WeighingInfo } from '~~/shared/types/realtime'
 import { analyseLedger } from '~~/shared/utils/ledger'
-import { innerPercentBounds, largestRemainderPercentages } from '~~/shared/utils/percentages'
+import { largestRemainderPercentages } from '~~/shared/utils/percentages'
 import { weightsFromRanking } from '~~/shared/utils/ranking'
 import { weightedSumFavourite } from '~~/shared/utils/scalarise'
-import { weightStability } from '~~/shared/utils/stability'
-import { joinWords } from '~~/shared/statusVocabulary'
+import { stabilitySentence } from '~~/shared/utils/stabilityWords'
 import type { useRoomSocket } from '~/composables/useRoomSocket'
 
 /** Criterion ids, most important first; a nested array is a tie (as `SubmitWeightsBody.ranking`). */
@@ -137,38 +136,6 @@ export function beamReadingOf(analysis: LedgerAnalysis, favourite: Favourite, na
     favouriteScore: scoreOf(favourite.winners[0]),
     runnerUpScore: scoreOf(favourite.runnersUp[0]),
   }
-}
-
-/**
- * One sentence on how firmly the favourite holds as criterion k's weight moves (the others
- * keeping their proportions, as the sliders do): "Your favourite stays the same while Capital
- * cost is between 18% and 41%" with who takes over beyond each end. Empty when there is nothing
- * to say (no favourite, one criterion).
- */
-export function stabilitySentence(analysis: LedgerAnalysis, favourite: Favourite, k: number, nameOf: (id: string) => string): string {
-  const criterion = analysis.criteria[k]
-  if (!criterion || favourite.winners.length === 0 || analysis.criteria.length < 2) return ''
-  if (favourite.winners.length > 1) {
-    return `${joinWords(favourite.winners.map(nameOf))} are level at these weights: a small change to any weight can decide between them.`
-  }
-  if (favourite.runnersUp.length === 0) return `${nameOf(favourite.winners[0]!)} is the only alternative on the shortlist, whatever the weights.`
-  let interval
-  try {
-    interval = weightStability(analysis, favourite.weights, favourite.winners[0])?.intervals[k]
-  }
-  catch {
-    return ''
-  }
-  if (!interval) return ''
-  const name = criterion.name
-  const { low, high } = innerPercentBounds(interval.lowest, interval.highest)
-  const below = interval.takenOverBelow && nameOf(interval.takenOverBelow)
-  const above = interval.takenOverAbove && nameOf(interval.takenOverAbove)
-  if (!below && !above) return `Your favourite stays the same whatever weight ${name} has.`
-  if (low > high) return `Your favourite is close to a tie: a change of 1% in ${name} can change it.`
-  if (!below) return `Your favourite stays the same while ${name} is at most ${high}%; above that, ${above} takes over.`
-  if (!above) return `Your favourite stays the same while ${name} is at least ${low}%; below that, ${below} takes over.`
-  return `Your favourite stays the same while ${name} is between ${low}% and ${high}% (below: ${below}; above: ${above}).`
 }
 
 /** An idempotency key, made once per submission. Works outside secure contexts (no randomUUID). */
