@@ -2,7 +2,7 @@ import { linkNitroSelfReferences } from './scripts/lib/nitroSelfLinks'
 
 // https://nuxt.com/docs/api/configuration/nuxt-config
 export default defineNuxtConfig({
-  modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', '@vueuse/nuxt', 'nuxt-auth-utils', '@nuxt/eslint'],
+  modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', '@vueuse/nuxt', 'nuxt-auth-utils', '@nuxt/eslint', 'nuxt-security'],
   devtools: { enabled: false },
   app: {
     head: {
@@ -52,6 +52,48 @@ export default defineNuxtConfig({
   telemetry: false,
   eslint: {
     config: { stylistic: true },
+  },
+  // Security headers and request limits (nuxt-security). Every page runs under a strict content
+  // security policy: scripts only with the per-response nonce (and what they load), no inline
+  // event handlers, no plugins, no framing; styles may be inline (Vue style bindings, charts).
+  // tests/e2e fail on any CSP violation a page reports (tests/e2e/fixtures.ts).
+  security: {
+    headers: {
+      contentSecurityPolicy: {
+        'default-src': ['\'self\''],
+        'base-uri': ['\'none\''],
+        'connect-src': ['\'self\''],
+        'font-src': ['\'self\'', 'data:'],
+        'form-action': ['\'self\''],
+        'frame-ancestors': ['\'none\''],
+        'img-src': ['\'self\'', 'data:', 'blob:'],
+        'object-src': ['\'none\''],
+        'script-src': ['\'self\'', '\'strict-dynamic\'', '\'nonce-{{nonce}}\''],
+        'script-src-attr': ['\'none\''],
+        'style-src': ['\'self\'', '\'unsafe-inline\''],
+        'worker-src': ['\'self\'', 'blob:'],
+        // Served over plain HTTP on loopback in development and tests; behind TLS, the proxy's
+        // HSTS does this job.
+        'upgrade-insecure-requests': false,
+      },
+      // Not cross-origin isolated: nothing needs it, and under COEP Chrome refuses to start a
+      // dedicated worker (the acceptability analysis) whose script is served without COEP.
+      crossOriginEmbedderPolicy: 'unsafe-none',
+      referrerPolicy: 'same-origin',
+      xFrameOptions: 'DENY',
+      permissionsPolicy: { 'camera': [], 'display-capture': [], 'fullscreen': ['self'], 'geolocation': [], 'microphone': [] },
+    },
+    // JSON bodies up to 4 MB (a large ledger); files up to 25 MB, above the routes' own limits
+    // (5 MB ledger uploads, 20 MB minutes checks), so those routes answer with their own words.
+    requestSizeLimiter: { maxRequestSizeInBytes: 4_000_000, maxUploadFileRequestInBytes: 25_000_000 },
+    // Limits that know who is asking live in the routes (sign-in, join codes, socket events); a
+    // per-address limiter would lock out a whole meeting behind one NAT.
+    rateLimiter: false,
+    // Names and rationales may contain "<" and "&": they are stored as typed and always rendered
+    // as text (tests/e2e check it), so a validator refusing them would only get in the way.
+    xssValidator: false,
+    corsHandler: false,
+    removeLoggers: false,
   },
   tailwindcss: {
     cssPath: false,

@@ -67,7 +67,8 @@ const SPREAD_MS = 10_000
 const REVISING_SHARE = 0.1
 const REJOINING_SHARE = 0.1
 const TARGET = { phones: 500, p95Ms: 150 }
-const BUILD_LOCK = '/tmp/counterpoise-build.lock'
+/** Shared with npm test and builds on this checkout; COUNTERPOISE_BUILD_LOCK points a copy elsewhere. */
+const BUILD_LOCK = process.env.COUNTERPOISE_BUILD_LOCK || '/tmp/counterpoise-build.lock'
 
 const criteria = [
   { id: 'cost', name: 'Cost', unit: '£k', direction: 'min' as const },
