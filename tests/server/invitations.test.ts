@@ -1,5 +1,6 @@
 import { createHash, randomBytes } from 'node:crypto'
 import { readdirSync, readFileSync } from 'node:fs'
+import { networkInterfaces } from 'node:os'
 import { join } from 'node:path'
 import QRCode from 'qrcode'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
@@ -524,6 +525,23 @@ describe('the development mail viewer and a missing mail server', () => {
     const mine = answer.body.messages.find((m: { to: string[] }) => m.to.includes(email))
     expect(mine.subject).toContain('Depot <b>viewer</b>')
     expect(mine.text).toContain(`${baseUrl}/invitations/`)
+  })
+
+  // The viewer shows invitation links, which let their holder into a room: from any address but
+  // the machine's own, only a site administrator sees it. Reached through a non-loopback address
+  // of this machine (the server listens on all of them).
+  const outside = Object.values(networkInterfaces()).flat().find(i => i && !i.internal && i.family === 'IPv4')?.address
+  it.skipIf(!outside)('shows caught mail to other addresses only for a site administrator', async () => {
+    const url = new URL(baseUrl)
+    url.hostname = outside!
+    const remote = url.origin
+    const stranger = await newPerson(remote, 'mail-stranger')
+    expect((await new Client(remote).get('/api/dev/mail')).status).toBe(404)
+    expect((await stranger.client.get('/api/dev/mail')).status).toBe(404)
+    await testDb().query('update users set site_role = \'admin\' where id = $1', [stranger.user.id])
+    const admin = new Client(remote)
+    expect((await admin.post('/api/auth/sign-in', { email: stranger.email, password: TEST_PASSWORD })).status).toBe(200)
+    expect((await admin.get('/api/dev/mail')).status).toBe(200)
   })
 
   it('hides the viewer without COUNTERPOISE_DEV_MAIL, and answers 503 (writing nothing) when mail cannot be sent', async () => {

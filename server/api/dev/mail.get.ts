@@ -14,10 +14,18 @@ interface CaughtMessage {
 
 /**
  * Development only: the messages the local mail catcher (scripts/mail-catcher.mjs) has stored,
- * newest first. Answers 404 unless COUNTERPOISE_DEV_MAIL=1, so a deployed server shows nothing.
+ * newest first. Answers 404 unless COUNTERPOISE_DEV_MAIL=1, so a deployed server shows nothing;
+ * and even then only to this machine itself (loopback) or a site administrator, because caught
+ * invitations carry links that let their holder into a room.
  */
 export default defineEventHandler(async (event) => {
   if (process.env.COUNTERPOISE_DEV_MAIL !== '1') throw createError({ statusCode: 404, message: 'Not found.' })
+  const address = event.node.req.socket.remoteAddress ?? ''
+  const loopback = address === '::1' || address.startsWith('127.') || address.startsWith('::ffff:127.')
+  if (!loopback) {
+    const session = await getUserSession(event)
+    if (session.user?.siteRole !== 'admin') throw createError({ statusCode: 404, message: 'Not found.' })
+  }
   const dir = resolve(process.env.MAIL_DIR || '.data/mail')
   // No directory yet simply means no mail yet.
   const names = (await readdir(dir).catch(() => [] as string[])).filter(name => name.endsWith('.json'))
