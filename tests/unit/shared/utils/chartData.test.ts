@@ -217,12 +217,24 @@ describe('niceAxis', () => {
     expect(niceAxis(-Number.MAX_VALUE, Number.MAX_VALUE)).toEqual({ min: 0, max: 1, step: 0.2, ticks: 5, decimals: 1 })
   })
 
+  it('keeps whole steps, to double precision, for a narrow span far from zero (a case the property found)', () => {
+    const low = -3.1901990353660817e-173
+    const axis = niceAxis(low, low + 8.479615899124377e-183)
+    expect(axis.ticks).toBe(6)
+    expect(axis.min).toBeLessThanOrEqual(low)
+    expect(axis.max).toBeGreaterThanOrEqual(low + 8.479615899124377e-183)
+    expect(Math.abs((axis.max - axis.min) / axis.step - axis.ticks)).toBeLessThan(4 * Number.EPSILON * (Math.abs(axis.min) + Math.abs(axis.max)) / axis.step)
+  })
+
   it('always covers the data, in whole steps, with a handful of ticks', () => {
     fc.assert(fc.property(fc.double({ min: -1e6, max: 1e6, noNaN: true }), fc.double({ min: 0, max: 1e6, noNaN: true }), (low, span) => {
       const axis = niceAxis(low, low + span)
       expect(axis.min).toBeLessThanOrEqual(low)
       expect(axis.max).toBeGreaterThanOrEqual(low + span)
-      expect(Math.abs((axis.max - axis.min) / axis.step - axis.ticks)).toBeLessThan(1e-6)
+      // Whole steps, up to the rounding of doubles: bounds n steps away from zero carry an error of
+      // about n·2⁻⁵² steps (a narrow span far from zero, e.g. −3.19e-173 + 8.5e-183, is 1.6e10 steps out).
+      const roundingInSteps = 4 * Number.EPSILON * (Math.abs(axis.min) + Math.abs(axis.max)) / axis.step
+      expect(Math.abs((axis.max - axis.min) / axis.step - axis.ticks)).toBeLessThan(1e-6 + roundingInSteps)
       expect(axis.ticks).toBeGreaterThanOrEqual(2)
       expect(axis.ticks).toBeLessThanOrEqual(12)
     }))
