@@ -20,6 +20,9 @@ export default defineNitroPlugin((nitroApp) => {
   if (process.env.DATABASE_URL) {
     const pool = new pg.Pool({ connectionString: process.env.DATABASE_URL, max: 3 })
     pool.on('error', error => console.error('[realtime] adapter pool error:', error.message))
+    // The adapter keeps one client checked out for LISTEN and gives it no 'error' listener: a
+    // database restart would be an uncaught exception. It reconnects by itself on 'end'.
+    pool.on('connect', client => client.on('error', error => console.error('[realtime] adapter client error:', error.message)))
     io.adapter(createAdapter(pool, {
       // 0.5.0 silently drops a NOTIFY payload of exactly 8000 bytes; larger ones go through the table.
       payloadThreshold: 7999,
