@@ -32,6 +32,9 @@ export default defineNuxtConfig({
       maxAge: 60 * 60 * 12,
     },
   },
+  // Links prefetch the next page only when touched or focused, not whenever they scroll into view:
+  // a stakeholder's phone should not download the facilitator's pages it links back to.
+  experimental: { defaults: { nuxtLink: { prefetchOn: { visibility: false, interaction: true } } } },
   compatibilityDate: '2026-11-01',
   nitro: {
     experimental: { websocket: true },

@@ -1,8 +1,9 @@
 import type { Ref, ShallowRef } from 'vue'
 import { useLocalStorage } from '@vueuse/core'
 import type { Alternative, Criterion } from '~~/shared/types/decision'
-import type { Favourite, LedgerAnalysis } from '~~/shared/types/engine'
+import type { Favourite, LedgerAnalysis, ReferencePointFavourite } from '~~/shared/types/engine'
 import type { MySubmission, WeighingInfo } from '~~/shared/types/realtime'
+import { aspirationFavourite, aspirationScales, unsupportedAmong } from '~~/shared/utils/aspirations'
 import { analyseLedger } from '~~/shared/utils/ledger'
 import { largestRemainderPercentages } from '~~/shared/utils/percentages'
 import { weightsFromRanking } from '~~/shared/utils/ranking'
@@ -26,14 +27,23 @@ const analyses = new Map<string, LedgerAnalysis | null>()
 
 /**
  * The engine's analysis of one ledger version, computed once per version on this device
- * (versions never change). Support LPs are skipped: the phone only needs the efficient table.
+ * (versions never change). Support LPs are skipped (the phone would need an LP solver): the
+ * supported flags are copied from the server's verdicts when given.
  * Null when the ledger cannot be analysed.
  */
-export function analysisOfVersion(key: string, criteria: readonly Criterion[], alternatives: readonly Alternative[]): LedgerAnalysis | null {
+export function analysisOfVersion(
+  key: string,
+  criteria: readonly Criterion[],
+  alternatives: readonly Alternative[],
+  verdicts: readonly { id: string, supported: boolean | null }[] = [],
+): LedgerAnalysis | null {
   if (!analyses.has(key)) {
     let analysis: LedgerAnalysis | null
     try {
       analysis = analyseLedger(criteria, alternatives, { support: false })
+      // Which efficient alternatives a weighted sum can pick comes from the server's analysis.
+      const supported = new Map(verdicts.map(v => [v.id, v.supported]))
+      for (const verdict of analysis.alternatives) verdict.supported = supported.get(verdict.id) ?? verdict.supported
     }
     catch {
       analysis = null
@@ -138,6 +148,37 @@ export function beamReadingOf(analysis: LedgerAnalysis, favourite: Favourite, na
   }
 }
 
+/** Targets in the middle of each criterion's efficient range: where the target sliders start. */
+export function middleTargets(analysis: LedgerAnalysis): number[] {
+  return aspirationScales(analysis).map(s => (s.efficientLow + s.efficientHigh) / 2)
+}
+
+/**
+ * What the phone says about the favourite for targets: its beam reading (no 0–100 scores, which
+ * belong to weighted sums; the lead is the runner-up's largest shortfall minus the favourite's,
+ * on the shortlist's 0–1 scale), the favourites no slider weighting can pick, and a sentence.
+ */
+export function targetsReadingOf(analysis: LedgerAnalysis, favourite: ReferencePointFavourite, nameOf: (id: string) => string) {
+  const ids = analysis.normalised.alternativeIds
+  const shortfallOf = (id: string | undefined) => (id === undefined ? null : favourite.scores[ids.indexOf(id)] ?? null)
+  const mine = shortfallOf(favourite.winners[0])
+  const next = shortfallOf(favourite.runnersUp[0])
+  const unsupported = unsupportedAmong(analysis, favourite.winners)
+  const names = favourite.winners.map(nameOf)
+  const largest = mine === null ? '' : mine <= 0 ? ' It meets every one of your targets.' : ` Its largest shortfall from your targets is ${Math.round(mine * 100)}% of the shortlist's range.`
+  const sentence = names.length === 0
+    ? ''
+    : unsupported.length > 0
+      ? `No slider weighting can pick ${unsupported.map(nameOf).join(' or ')}; your targets can.${largest}`
+      : `${names.join(' and ')} ${names.length > 1 ? 'are' : 'is'} closest to your targets.${largest}`
+  return {
+    beam: { favourites: names, runnersUp: favourite.runnersUp.map(nameOf), favouriteScore: null, runnerUpScore: null } satisfies BeamReading,
+    lead: mine !== null && next !== null ? next - mine : null,
+    unsupported,
+    sentence,
+  }
+}
+
 /** An idempotency key, made once per submission. Works outside secure contexts (no randomUUID). */
 export function newSubmissionKey(): string {
   const bytes = crypto.getRandomValues(new Uint8Array(16))
@@ -156,6 +197,8 @@ export interface PendingSubmission {
   idempotencyKey: string
   weights?: number[]
   ranking?: CriterionRanking
+  /** Targets round: a target per criterion (criterion units and order). */
+  aspirations?: number[]
   madeAt: string
 }
 
@@ -163,6 +206,7 @@ export interface PendingSubmission {
 export interface BalanceDraft {
   weights: number[]
   ranking: CriterionRanking | null
+  aspirations?: number[] | null
   savedAt: string
 }
 
@@ -197,6 +241,7 @@ export function useBalance(options: BalanceOptions) {
   const criterionIds = computed(() => criteria.value.map(c => c.id))
   const p = computed(() => criteria.value.length)
   const isRanking = computed(() => weighing.value?.inputStyle === 'ranking')
+  const isTargets = computed(() => weighing.value?.inputStyle === 'aspirations')
 
   const stored = useLocalStorage<StoredBalance>(
     () => `counterpoise:balance:${options.roomId}:${weighing.value?.id ?? 'none'}`,
@@ -206,6 +251,9 @@ export function useBalance(options: BalanceOptions) {
 
   const weights = ref<number[]>([])
   const items = ref<RankItem[]>([])
+  /** Targets round: the target of each criterion, in its unit. */
+  const targets = ref<number[]>([])
+  const scales = computed(() => (analysis.value ? aspirationScales(analysis.value) : []))
   /** The weights when the slider being moved was first touched (see `reweigh`). */
   let anchor: { k: number, weights: number[] } | null = null
   /** Whether the inputs were moved since they were last loaded. */
@@ -226,25 +274,35 @@ export function useBalance(options: BalanceOptions) {
   })
   const percents = computed(() => largestRemainderPercentages(effectiveWeights.value))
 
+  const effectiveTargets = computed<number[]>(() => {
+    if (!analysis.value) return []
+    return targets.value.length === p.value ? targets.value : middleTargets(analysis.value)
+  })
+
   const favourite = computed<Favourite | null>(() => {
     if (!analysis.value || analysis.value.normalised.n === 0 || effectiveWeights.value.length === 0) return null
     try {
+      if (isTargets.value) return aspirationFavourite(analysis.value, effectiveTargets.value)
       return weightedSumFavourite(analysis.value, effectiveWeights.value)
     }
     catch {
       return null
     }
   })
-  const beam = computed(() => (analysis.value && favourite.value ? beamReadingOf(analysis.value, favourite.value, nameOf) : null))
+  /** Targets round: the beam, the lead and the sentence for the favourite of the targets. */
+  const targetsReading = computed(() => (isTargets.value && analysis.value && favourite.value
+    ? targetsReadingOf(analysis.value, favourite.value as ReferencePointFavourite, nameOf)
+    : null))
+  const beam = computed(() => targetsReading.value?.beam ?? (analysis.value && favourite.value ? beamReadingOf(analysis.value, favourite.value, nameOf) : null))
 
   const stabilityIndex = computed(() => {
     if (activeIndex.value !== null && activeIndex.value < p.value) return activeIndex.value
     const w = effectiveWeights.value
     return w.length ? w.indexOf(Math.max(...w)) : 0
   })
-  const stability = computed(() => (analysis.value && favourite.value ? stabilitySentence(analysis.value, favourite.value, stabilityIndex.value, nameOf) : ''))
+  const stability = computed(() => targetsReading.value?.sentence ?? (analysis.value && favourite.value ? stabilitySentence(analysis.value, favourite.value, stabilityIndex.value, nameOf) : ''))
 
-  function load(source: { weights?: number[] | null, ranking?: CriterionRanking | null } | null) {
+  function load(source: { weights?: number[] | null, ranking?: CriterionRanking | null, aspirations?: number[] | null } | null) {
     anchor = null
     touched = false
     activeIndex.value = null
@@ -256,13 +314,15 @@ export function useBalance(options: BalanceOptions) {
         })()
       : equalWeights(p.value)
     items.value = itemsOfRanking(source?.ranking ?? null, criterionIds.value)
+    const ts = source?.aspirations
+    targets.value = ts && ts.length === p.value ? [...ts] : (analysis.value ? middleTargets(analysis.value) : [])
   }
 
   /** Put the newest of: the unsent submission, the unsent draft, the own submission, into the inputs. */
   function restore() {
     if (!weighing.value || p.value === 0) return
     const saved = stored.value
-    const candidates: [number, { weights?: number[] | null, ranking?: CriterionRanking | null }][] = []
+    const candidates: [number, { weights?: number[] | null, ranking?: CriterionRanking | null, aspirations?: number[] | null }][] = []
     if (saved.pending?.weighingId === weighing.value.id) candidates.push([Date.parse(saved.pending.madeAt), saved.pending])
     if (saved.draft) candidates.push([Date.parse(saved.draft.savedAt), saved.draft])
     if (mineHere.value) candidates.push([Date.parse(mineHere.value.submittedAt), mineHere.value])
@@ -270,7 +330,8 @@ export function useBalance(options: BalanceOptions) {
     load(candidates[0]?.[1] ?? null)
   }
 
-  const inputsKey = computed(() => `${weighing.value?.id ?? ''}:${criterionIds.value.join(',')}`)
+  // The analysis is in the key too: target sliders start mid-range, which needs it.
+  const inputsKey = computed(() => `${weighing.value?.id ?? ''}:${criterionIds.value.join(',')}:${analysis.value ? 'analysed' : ''}`)
   watch(inputsKey, restore, { immediate: true, flush: 'post' })
   onMounted(restore)
   // A submission confirmed from elsewhere (another tab, a reconnect) shows when nothing is being edited.
@@ -286,6 +347,15 @@ export function useBalance(options: BalanceOptions) {
     activeIndex.value = k
     refusal.value = null
   }
+  /** Targets round: criterion k's target moved to `level` (criterion units). */
+  function aim(k: number, level: number) {
+    const next = [...effectiveTargets.value]
+    next[k] = level
+    targets.value = next
+    touched = true
+    activeIndex.value = k
+    refusal.value = null
+  }
   /** The ranking list changed. */
   function rank(next: RankItem[], movedId?: string) {
     items.value = next
@@ -296,14 +366,17 @@ export function useBalance(options: BalanceOptions) {
   }
   /** A gesture ended: keep the positions so a reload finds them. */
   function saveDraft() {
-    const draft: BalanceDraft = { weights: [...effectiveWeights.value], ranking: isRanking.value ? rankingOfItems(items.value) : null, savedAt: new Date().toISOString() }
+    const draft: BalanceDraft = { weights: [...effectiveWeights.value], ranking: isRanking.value ? rankingOfItems(items.value) : null, aspirations: isTargets.value ? [...effectiveTargets.value] : null, savedAt: new Date().toISOString() }
     stored.value = { ...stored.value, draft: matchesMine.value ? null : draft }
   }
 
-  const currentBody = computed(() => (isRanking.value ? { ranking: rankingOfItems(items.value) } : { weights: [...effectiveWeights.value] }))
-  const matches = (sub: { weights?: number[] | null, ranking?: CriterionRanking | null } | null) => {
+  const currentBody = computed<{ ranking: CriterionRanking } | { aspirations: number[] } | { weights: number[] }>(() => (isTargets.value
+    ? { aspirations: [...effectiveTargets.value] }
+    : isRanking.value ? { ranking: rankingOfItems(items.value) } : { weights: [...effectiveWeights.value] }))
+  const matches = (sub: { weights?: number[] | null, ranking?: CriterionRanking | null, aspirations?: number[] | null } | null) => {
     if (!sub) return false
     const body = currentBody.value
+    if ('aspirations' in body) return !!sub.aspirations && sub.aspirations.length === body.aspirations.length && sub.aspirations.every((x, k) => x === body.aspirations[k])
     if ('ranking' in body) return !!sub.ranking && JSON.stringify(sub.ranking) === JSON.stringify(body.ranking)
     return sameWeights(sub.weights, body.weights)
   }
@@ -356,7 +429,7 @@ export function useBalance(options: BalanceOptions) {
           roomId: options.roomId,
           weighingId: pending.weighingId,
           idempotencyKey: pending.idempotencyKey,
-          ...(pending.ranking ? { ranking: pending.ranking } : { weights: pending.weights }),
+          ...(pending.aspirations ? { aspirations: pending.aspirations } : pending.ranking ? { ranking: pending.ranking } : { weights: pending.weights }),
         })
       }
       catch {
@@ -376,7 +449,7 @@ export function useBalance(options: BalanceOptions) {
         if (stillThisOne) {
           refusal.value = answer.message
           // Keep what was set, so it can be sent again if that makes sense.
-          stored.value = { ...stored.value, draft: { weights: pending.weights ?? [...effectiveWeights.value], ranking: pending.ranking ?? null, savedAt: new Date().toISOString() } }
+          stored.value = { ...stored.value, draft: { weights: pending.weights ?? [...effectiveWeights.value], ranking: pending.ranking ?? null, aspirations: pending.aspirations ?? null, savedAt: new Date().toISOString() } }
         }
         return
       }
@@ -401,6 +474,9 @@ export function useBalance(options: BalanceOptions) {
 
   return {
     weights: effectiveWeights,
+    targets: effectiveTargets,
+    scales,
+    targetsReading,
     items,
     percents,
     favourite,
@@ -414,6 +490,7 @@ export function useBalance(options: BalanceOptions) {
     pending: pendingHere,
     mine: mineHere,
     adjust,
+    aim,
     rank,
     saveDraft,
     submit,

@@ -1,6 +1,7 @@
 import { io, type Socket } from 'socket.io-client'
 import type { Ack, ClientToServerEvents, HandshakeRefusal, JoinedRoom, MySubmission, RoomLiveState, ServerToClientEvents } from '~~/shared/types/realtime'
 import type { RoomRole } from '~~/shared/roles'
+import type { MyBallot, VoteView } from '~~/shared/types/resolution'
 
 export type RoomSocket = Socket<ServerToClientEvents, ClientToServerEvents>
 export type ConnectionState = 'connecting' | 'connected' | 'reconnecting' | 'offline' | 'signed-out'
@@ -21,6 +22,10 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   const revealed = createEventHook<{ weighingId: string }>()
   const ledgerChanged = createEventHook<{ version: number }>()
   const joined = createEventHook<JoinedRoom>()
+  const resolutionChanged = createEventHook<{ roomId: string }>()
+  /** The final vote (open, or else latest) with its live tally, and the caller's ballot in it. */
+  const vote = shallowRef<VoteView | null>(null)
+  const myBallot = shallowRef<MyBallot | null>(null)
 
   // websocket first; long-polling only when the network refuses websockets.
   const socket: RoomSocket = io({ transports: ['websocket', 'polling'], reconnectionDelayMax: 5000, withCredentials: true })
@@ -34,6 +39,8 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
       role.value = answer.data.role
       state.value = answer.data.state
       mine.value = answer.data.mine
+      vote.value = answer.data.vote ?? null
+      myBallot.value = answer.data.myBallot ?? null
       joined.trigger(answer.data)
     })
   }
@@ -82,6 +89,14 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   socket.on('ledger:changed', (body) => {
     if (body.roomId === toValue(roomId)) ledgerChanged.trigger({ version: body.version })
   })
+  socket.on('vote:state', (body) => {
+    if (body.roomId !== toValue(roomId)) return
+    if (body.vote?.id !== vote.value?.id) myBallot.value = null
+    vote.value = body.vote
+  })
+  socket.on('resolution:changed', (body) => {
+    if (body.roomId === toValue(roomId)) resolutionChanged.trigger(body)
+  })
   socket.on('failure', (body) => {
     lastFailure.value = body.message
   })
@@ -92,6 +107,17 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
       socket.timeout(timeoutMs).emit('weights:submit', body, (error: Error | null, answer: Ack<MySubmission>) => {
         if (error) return reject(error)
         if (answer.ok) mine.value = answer.data
+        resolve(answer)
+      })
+    })
+  }
+
+  /** Cast a ballot; resolves with the server's answer (after its commit), or rejects after `timeoutMs`. */
+  function castBallot(body: Parameters<ClientToServerEvents['ballot:cast']>[0], timeoutMs = 8000) {
+    return new Promise<Ack<MyBallot>>((resolve, reject) => {
+      socket.timeout(timeoutMs).emit('ballot:cast', body, (error: Error | null, answer: Ack<MyBallot>) => {
+        if (error) return reject(error)
+        if (answer.ok) myBallot.value = answer.data
         resolve(answer)
       })
     })
@@ -112,6 +138,10 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
     connection,
     lastFailure,
     submit,
+    vote,
+    myBallot,
+    castBallot,
+    onResolutionChanged: resolutionChanged.on,
     onRevealed: revealed.on,
     onLedgerChanged: ledgerChanged.on,
     onJoined: joined.on,

@@ -152,6 +152,11 @@ export const submissions = pgTable('submissions', {
   weights: jsonb('weights').$type<number[]>().notNull(),
   /** For ranking input: criterion ids from most to least important (ties as nested arrays). */
   ranking: jsonb('ranking').$type<(string | string[])[] | null>(),
+  /**
+   * For aspirations input: the target level of each criterion, in its own unit and the criterion
+   * order of the ledger version. `weights` then holds the achievement function's weights (equal).
+   */
+  aspirations: jsonb('aspirations').$type<number[] | null>(),
   /** The phone's key for this submission: a resend after a reconnect is recognised, not stored twice. */
   idempotencyKey: text('idempotency_key').notNull(),
   revision: integer('revision').notNull().default(1),

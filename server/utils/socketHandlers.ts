@@ -1,5 +1,6 @@
 import type { Socket } from 'socket.io'
 import { JoinRoomBody, SubmitWeightsBody } from '../../shared/schemas/weighing'
+import { CastBallotBody } from '../../shared/schemas/resolution'
 import { roleAllows } from '../../shared/roles'
 import type { Ack, ClientToServerEvents, ServerToClientEvents, SocketData } from '../../shared/types/realtime'
 import { fieldErrorsOf } from '../../shared/utils/fieldErrors'
@@ -13,6 +14,7 @@ export const SOCKET_EVENT_LIMIT = { events: 40, windowMs: 10_000 }
 function failure(error: unknown): { ok: false, status: number, message: string } {
   const e = error as { statusCode?: number, message?: string }
   if (e?.statusCode && e.statusCode < 500) return { ok: false, status: e.statusCode, message: e.message ?? 'Refused.' }
+  if (isDatabaseUnreachable(error)) return { ok: false, status: 503, message: DATABASE_UNREACHABLE_MESSAGE }
   console.error('[realtime] event failed:', error)
   return { ok: false, status: 500, message: 'The server could not do that just now. Try again in a moment.' }
 }
@@ -49,7 +51,9 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
       if (roleAllows(role, 'weighing:run')) await socket.join(facilitatorChannel(roomId))
       socket.data.rooms.set(roomId, role)
       const state = await liveState(roomId)
-      answer(ack, { ok: true, data: { role, state, mine: roleAllows(role, 'weights:submit') ? await mySubmission(roomId, socket.data.userId) : null } })
+      const vote = await currentVote(roomId, { withBallots: roleAllows(role, 'weighing:run') })
+      const ballot = vote && roleAllows(role, 'vote:cast') ? await myBallot(roomId, socket.data.userId) : null
+      answer(ack, { ok: true, data: { role, state, mine: roleAllows(role, 'weights:submit') ? await mySubmission(roomId, socket.data.userId) : null, vote, myBallot: ballot } })
       if (state.weighing && roleAllows(role, 'weighing:run')) {
         socket.emit('weighing:names', { weighingId: state.weighing.id, names: await submittedNames(state.weighing.id) })
       }
@@ -83,6 +87,24 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
       const refused = failure(error)
       answer(ack, refused)
       socket.emit('failure', { event: 'weights:submit', status: refused.status, message: refused.message })
+    }
+  })
+
+  socket.on('ballot:cast', async (body, ack) => {
+    if (!allow('ballot:cast', ack)) return
+    try {
+      const parsed = CastBallotBody.safeParse(body)
+      if (!parsed.success) throw createError({ statusCode: 400, message: Object.values(fieldErrorsOf(parsed.error.issues))[0] })
+      const { role } = await requireRoomMember(parsed.data.roomId, socket.data.userId)
+      if (!roleAllows(role, 'vote:cast')) throw createError({ statusCode: 403, message: `Your role in this room (${role}) does not vote.` })
+      const { ballot, changed } = await castBallot(socket.data.userId, parsed.data)
+      answer(ack, { ok: true, data: ballot })
+      if (changed) await broadcastVoteState(parsed.data.roomId)
+    }
+    catch (error) {
+      const refused = failure(error)
+      answer(ack, refused)
+      socket.emit('failure', { event: 'ballot:cast', status: refused.status, message: refused.message })
     }
   })
 }

@@ -3,6 +3,7 @@ import { ledgerVersions, roomMembers, rooms, submissions, users, weighings, type
 import type { OpenWeighingBody, SubmitWeightsBody } from '../../shared/schemas/weighing'
 import type { MySubmission, RoomLiveState, WeighingInfo } from '../../shared/types/realtime'
 import { GROUP_RULES } from '../../shared/types/engine'
+import { achievementWeights, aspirationFavourite, aspirationProblem, medianAspiration, unsupportedAmong } from '../../shared/utils/aspirations'
 import { groupStanding } from '../../shared/utils/group'
 import { weightsFromRanking } from '../../shared/utils/ranking'
 import { normaliseWeights, weightedSumFavourite } from '../../shared/utils/scalarise'
@@ -63,6 +64,7 @@ export function mySubmissionOf(row: Submission): MySubmission {
     weighingId: row.weighingId,
     weights: row.weights,
     ranking: row.ranking ?? null,
+    aspirations: row.aspirations ?? null,
     idempotencyKey: row.idempotencyKey,
     revision: row.revision,
     submittedAt: row.submittedAt.toISOString(),
@@ -175,8 +177,18 @@ export async function submitWeights(userId: string, body: SubmitWeightsBody): Pr
     if (weighing.status !== 'open') throw createError({ statusCode: 409, message: `Weighing ${weighing.number} is closed; your weights were not recorded.` })
     if (weighing.closesAt && weighing.closesAt.getTime() <= Date.now()) throw createError({ statusCode: 409, message: `Weighing ${weighing.number}'s time is up; your weights were not recorded.` })
     const criterionIds = version.criteria.map(c => c.id)
+    const wantsTargets = weighing.inputStyle === 'aspirations'
+    if (wantsTargets !== (body.aspirations !== undefined)) {
+      throw createError({ statusCode: 400, message: wantsTargets ? `Weighing ${weighing.number} asks for a target per criterion, not weights.` : `Weighing ${weighing.number} asks for weights, not targets.` })
+    }
     let weights: number[]
-    if (body.ranking) {
+    if (body.aspirations) {
+      const problem = aspirationProblem(analysisOf(version), body.aspirations)
+      if (problem) throw createError({ statusCode: 400, message: problem.message, data: { criterionId: problem.criterionId } })
+      // The achievement function's weights: equal, on the normalised scale (shared/utils/aspirations.ts).
+      weights = achievementWeights(criterionIds.length)
+    }
+    else if (body.ranking) {
       weights = weightsOfRanking(body.ranking, criterionIds)
     }
     else {
@@ -188,11 +200,11 @@ export async function submitWeights(userId: string, body: SubmitWeightsBody): Pr
         throw createError({ statusCode: 400, message: (error as Error).message })
       }
     }
-    const values = { weights, ranking: body.ranking ?? null, idempotencyKey: body.idempotencyKey, submittedAt: new Date() }
+    const values = { weights, ranking: body.ranking ?? null, aspirations: body.aspirations ?? null, idempotencyKey: body.idempotencyKey, submittedAt: new Date() }
     const [row] = existing
       ? await tx.update(submissions).set({ ...values, revision: existing.revision + 1 }).where(eq(submissions.id, existing.id)).returning()
       : await tx.insert(submissions).values({ ...values, weighingId: weighing.id, userId }).returning()
-    await audit({ actorId: userId, roomId: body.roomId, action: 'weights.submitted', details: { weighing: weighing.number, revision: row!.revision, style: body.ranking ? 'ranking' : 'sliders' } }, tx)
+    await audit({ actorId: userId, roomId: body.roomId, action: 'weights.submitted', details: { weighing: weighing.number, revision: row!.revision, style: body.aspirations ? 'aspirations' : body.ranking ? 'ranking' : 'sliders' } }, tx)
     return { submission: mySubmissionOf(row!), changed: true }
   })
 }
@@ -206,23 +218,31 @@ export async function weighingResults(roomId: string, weighingId: string) {
   if (!row) throw createError({ statusCode: 404, message: 'No such weighing in this room.' })
   const { weighing, version } = row
   if (weighing.status !== 'revealed') throw createError({ statusCode: 409, message: `Weighing ${weighing.number} has not been revealed yet.` })
-  const rows = await db.select({ weights: submissions.weights, name: users.displayName, submittedAt: submissions.submittedAt })
+  const rows = await db.select({ weights: submissions.weights, aspirations: submissions.aspirations, name: users.displayName, submittedAt: submissions.submittedAt })
     .from(submissions).innerJoin(users, eq(users.id, submissions.userId))
     .where(eq(submissions.weighingId, weighingId)).orderBy(asc(submissions.submittedAt))
   const analysis = analysisOf(version)
   const names = new Map(version.alternatives.map(a => [a.id, a.name]))
+  const byTargets = weighing.inputStyle === 'aspirations'
+  // In reference-point mode each favourite is named by the achievement function on the stored
+  // targets (a submission without them, impossible by construction, falls back to its weights).
   const weightings = rows.map((r, i) => {
-    const favourite = weightedSumFavourite(analysis, r.weights)
+    const favourite = byTargets && r.aspirations ? aspirationFavourite(analysis, r.aspirations) : weightedSumFavourite(analysis, r.weights)
     return {
       label: weighing.showNames ? r.name : `Stakeholder ${i + 1}`,
       weights: favourite.weights,
       favourites: favourite.winners,
       runnersUp: favourite.runnersUp,
+      aspirations: byTargets ? (r.aspirations ?? null) : null,
+      /** Favourites that no weighting of sliders can favour (only ever non-empty for targets). */
+      unsupportedFavourites: unsupportedAmong(analysis, favourite.winners),
     }
   })
   const favouredBy: Record<string, number> = Object.fromEntries(analysis.efficientIds.map(id => [id, 0]))
   for (const w of weightings) for (const id of w.favourites) favouredBy[id]! += 1 / w.favourites.length
-  const group = weightings.length === 0
+  // Weight-based group rules mean nothing for targets (every stored weighting is the equal one):
+  // a targets round has no `group`, and `groupTargets` instead.
+  const group = weightings.length === 0 || byTargets
     ? []
     : GROUP_RULES.map((rule) => {
         try {
@@ -233,9 +253,10 @@ export async function weighingResults(roomId: string, weighingId: string) {
           return { rule, weights: null, dispersion: null, agreement: null, favourites: [], runnersUp: [], note: (error as Error).message }
         }
       })
+  const targetPoints = weightings.flatMap(w => (w.aspirations ? [w.aspirations] : []))
   return {
     weighing: weighingInfo(weighing, version),
-    criteria: version.criteria.map(c => ({ id: c.id, name: c.name, unit: c.unit, direction: c.direction })),
+    criteria: version.criteria.map(c => ({ id: c.id, name: c.name, unit: c.unit, direction: c.direction, precision: c.precision ?? null })),
     alternatives: analysis.efficientIds.map(id => ({
       id,
       name: names.get(id)!,
@@ -244,6 +265,29 @@ export async function weighingResults(roomId: string, weighingId: string) {
     })),
     weightings,
     group,
+    groupTargets: byTargets && targetPoints.length > 0 ? groupTargetsOf(analysis, targetPoints) : null,
+  }
+}
+
+/**
+ * The group in a targets round: the median of each criterion's targets (resists one extreme
+ * target; stays within what the stakeholders asked) and that point's favourite by the same
+ * achievement function, with `agreement` the share of stakeholders whose own favourite it is.
+ */
+function groupTargetsOf(analysis: ReturnType<typeof analysisOf>, points: number[][]) {
+  const aspirations = medianAspiration(points, analysis.normalised.p)
+  const favourite = aspirationFavourite(analysis, aspirations)
+  const agreeing = points.filter((point) => {
+    const own = aspirationFavourite(analysis, point).winners
+    return own.some(id => favourite.winners.includes(id))
+  }).length
+  return {
+    rule: 'median-targets' as const,
+    aspirations,
+    favourites: favourite.winners,
+    runnersUp: favourite.runnersUp,
+    unsupportedFavourites: unsupportedAmong(analysis, favourite.winners),
+    agreement: agreeing / points.length,
   }
 }
 export type WeighingResults = Awaited<ReturnType<typeof weighingResults>>

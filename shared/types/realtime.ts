@@ -43,6 +43,8 @@ export interface MySubmission {
   weighingId: string
   weights: number[]
   ranking: (string | string[])[] | null
+  /** Targets per criterion (criterion units and order), for a weighing in reference-point mode. */
+  aspirations?: number[] | null
   idempotencyKey: string
   revision: number
   submittedAt: string
@@ -65,7 +67,7 @@ export interface JoinedRoom {
 export interface ClientToServerEvents {
   'room:join': (body: { roomId: string }, ack: (answer: Ack<JoinedRoom>) => void) => void
   'room:leave': (body: { roomId: string }) => void
-  'weights:submit': (body: { roomId: string, weighingId: string, idempotencyKey: string, weights?: number[], ranking?: (string | string[])[] }, ack: (answer: Ack<MySubmission>) => void) => void
+  'weights:submit': (body: { roomId: string, weighingId: string, idempotencyKey: string, weights?: number[], ranking?: (string | string[])[], aspirations?: number[] }, ack: (answer: Ack<MySubmission>) => void) => void
   /** A stakeholder's ballot in the open final vote; acknowledged after it is stored. */
   'ballot:cast': (body: { roomId: string, voteId: string, idempotencyKey: string, choices: Record<string, BallotChoice> }, ack: (answer: Ack<MyBallot>) => void) => void
 }

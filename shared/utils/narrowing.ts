@@ -17,13 +17,34 @@ import { formatNumber, joinWords } from '../statusVocabulary'
 export interface WeighingResultsView {
   weighing: WeighingInfo
   /** The criteria of the weighing's ledger version, in weight order. */
-  criteria: { id: string, name: string, unit: string, direction: Direction }[]
+  criteria: { id: string, name: string, unit: string, direction: Direction, precision?: number | null }[]
   /** The efficient alternatives of that version; `favouredBy` counts weightings (ties share credit). */
   alternatives: { id: string, name: string, favouredBy: number, supported: boolean | null }[]
   /** One per submission, oldest first: the stakeholder's name, or "Stakeholder k" when anonymous. */
-  weightings: { label: string, weights: number[], favourites: string[], runnersUp: string[] }[]
-  /** One per group rule; empty when nobody submitted. `note` says why a rule gave no weights. */
+  weightings: {
+    label: string
+    weights: number[]
+    favourites: string[]
+    runnersUp: string[]
+    /** Targets round only: the stakeholder's targets (criterion units and order). */
+    aspirations?: number[] | null
+    /** Favourites that no weighting of sliders can favour. */
+    unsupportedFavourites?: string[]
+  }[]
+  /** One per group rule; empty when nobody submitted, and in a targets round. `note` says why a rule gave no weights. */
   group: GroupResultView[]
+  /** Targets round only: the group's median targets and their favourite (see shared/utils/aspirations.ts). */
+  groupTargets?: GroupTargetsView | null
+}
+
+export interface GroupTargetsView {
+  rule: 'median-targets'
+  aspirations: number[]
+  favourites: string[]
+  runnersUp: string[]
+  unsupportedFavourites: string[]
+  /** Share of stakeholders whose own favourite is the group's. */
+  agreement: number
 }
 
 export interface GroupResultView {
@@ -332,8 +353,9 @@ export function revealedBefore<T extends Pick<WeighingInfo, 'id' | 'status' | 'n
  * Empty when either has no group result.
  */
 export function comparisonLine(earlier: WeighingResultsView, later: WeighingResultsView): string {
-  const before = groupFor(earlier)
-  const now = groupFor(later)
+  // A targets round has no weight-based group; its median targets' favourite stands in.
+  const before = groupFor(earlier) ?? earlier.groupTargets ?? null
+  const now = groupFor(later) ?? later.groupTargets ?? null
   if (!before || !now || before.favourites.length === 0 || now.favourites.length === 0) return ''
   const was = favouriteWords(before.favourites, earlier.alternatives)
   const is = favouriteWords(now.favourites, later.alternatives)

@@ -1,5 +1,4 @@
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { ROOM_ACTIONS, ROOM_ROLES, roleAllows, type RoomAction, type RoomRole } from '../../shared/roles'
+import { afterAll, describe, expect, inject, it } from 'vitest'
 import { Client, newPerson } from '../support/client'
 import { closeTestDb, count, testDb } from '../support/db'
 
@@ -37,49 +36,8 @@ describe('rooms', () => {
   })
 })
 
-/**
- * Every room role against every room action that has a route, with real sessions: the outcome must
- * follow the table in shared/roles.ts. Signed out → 401; not a member → 404 (rooms cannot be probed);
- * a member whose role lacks the action → 403.
- */
-describe('the role table, enforced by the routes', () => {
-  const routes: Partial<Record<RoomAction, (client: Client, roomId: string) => Promise<number>>> = {
-    'room:view': async (c, id) => (await c.get(`/api/rooms/${id}`)).status,
-    'room:manage': async (c, id) => (await c.patch(`/api/rooms/${id}`, { question: 'Which depot site should we buy this year?' })).status,
-    'minutes:view': async (c, id) => (await c.get(`/api/rooms/${id}/audit`)).status,
-  }
-  const people: Record<string, Client> = {}
-  let roomId = ''
-
-  beforeAll(async () => {
-    const facilitator = await newPerson(baseUrl, 'facilitator')
-    roomId = (await facilitator.client.post('/api/rooms', { title: 'Role table room', question: 'Does the role table hold?' })).body.id
-    people.facilitator = facilitator.client
-    for (const role of ROOM_ROLES.filter(r => r !== 'facilitator')) {
-      const person = await newPerson(baseUrl, role)
-      // Invitations come later; membership is set up directly here.
-      await testDb().query('insert into room_members (room_id, user_id, role) values ($1, $2, $3)', [roomId, person.user.id, role])
-      people[role] = person.client
-    }
-    people.outsider = (await newPerson(baseUrl, 'outsider')).client
-    people['signed-out'] = new Client(baseUrl)
-  })
-
-  const cases = (Object.keys(routes) as RoomAction[]).flatMap(action => [
-    ...ROOM_ROLES.map(role => [action, role, roleAllows(role as RoomRole, action) ? 200 : 403] as const),
-    [action, 'outsider', 404] as const,
-    [action, 'signed-out', 401] as const,
-  ])
-
-  it.each(cases)('%s as %s → %i', async (action, who, expected) => {
-    expect(await routes[action]!(people[who]!, roomId)).toBe(expected)
-  })
-
-  it('covers every action that has a route, and the table has a row for every role', () => {
-    expect(Object.keys(routes).every(a => (ROOM_ACTIONS as readonly string[]).includes(a))).toBe(true)
-    expect(ROOM_ROLES.every(role => roleAllows(role, 'room:view'))).toBe(true)
-  })
-})
+// The role table against the routes (every role, outsiders, signed out) lives in
+// tests/server/accessMatrix.test.ts, for every route and socket event.
 
 describe('site administration', () => {
   it('lets only site administrators list people and change site roles', async () => {
