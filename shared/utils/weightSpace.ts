@@ -1,10 +1,8 @@
 /**
  * The plain-data side of the weight-space view (triangle, acceptability, compromise) for one
- * revealed weighing: which three criteria sit at the triangle's corners, where each weighting
- * sits on it, and a seed that makes the round's acceptability figures reproducible.
+ * revealed weighing: which three criteria sit at the triangle's corners (each weighting's place on
+ * it is `placeOnMap` in weightMap.ts), and a seed that makes the round's acceptability figures reproducible.
  */
-import { trianglePoint } from './weightMap'
-
 /** A 32-bit seed from a text (FNV-1a, 32-bit), so the analysis of one round always draws the same weights. */
 export function seedFromText(text: string): number {
   let hash = 0x811C9DC5
@@ -27,15 +25,4 @@ export function defaultCorners(criterionIds: readonly string[], weights: readonl
     .slice(0, 3)
     .sort((a, b) => a.k - b.k)
   return [order[0]!.id, order[1]!.id, order[2]!.id]
-}
-
-/**
- * Where a weighting sits on the triangle of three corner criteria: the split of its weight among
- * those three (its projection when there are more criteria). Null when it puts no weight on any
- * of the three.
- */
-export function placeWeighting(weights: readonly number[], cornerIndices: readonly [number, number, number]): [number, number] | null {
-  const t = cornerIndices.map(k => weights[k] ?? 0)
-  if (t.some(v => !Number.isFinite(v) || v < 0) || t[0]! + t[1]! + t[2]! <= 0) return null
-  return trianglePoint(t)
 }

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
-import { defaultCorners, placeWeighting, seedFromText } from '../../../../shared/utils/weightSpace'
-import { TRIANGLE_HEIGHT } from '../../../../shared/utils/weightMap'
+import { defaultCorners, seedFromText } from '../../../../shared/utils/weightSpace'
+import { placeOnMap, TRIANGLE_HEIGHT, type WeightMap } from '../../../../shared/utils/weightMap'
 import { stabilitySentence } from '../../../../shared/utils/stabilityWords'
 import { analyseLedger } from '../../../../shared/utils/ledger'
 import { weightedSumFavourite } from '../../../../shared/utils/scalarise'
@@ -32,7 +32,11 @@ describe('defaultCorners', () => {
   })
 })
 
-describe('placeWeighting', () => {
+// Only the corners and the number of criteria matter for where a weighting sits.
+const mapOn = (criterionIndices: [number, number, number], p: number) => ({ criterionIndices, held: Array.from({ length: p }, () => 0) }) as unknown as WeightMap
+const placeWeighting = (weights: number[], corners: [number, number, number]) => placeOnMap(mapOn(corners, weights.length), weights)?.point ?? null
+
+describe('placeOnMap (where the weight space draws each weighting)', () => {
   it('puts all weight on a corner at that corner, and equal weights at the centre', () => {
     expect(placeWeighting([1, 0, 0], [0, 1, 2])).toEqual([0.5, 0])
     expect(placeWeighting([0, 1, 0], [0, 1, 2])).toEqual([0, TRIANGLE_HEIGHT])
