@@ -268,7 +268,9 @@ export function niceAxis(lowest: number, highest: number, target = 5): NiceAxis 
   if (!Number.isFinite(lowest) || !Number.isFinite(highest)) return { ...FALLBACK_AXIS }
   let low = Math.min(lowest, highest)
   let high = Math.max(lowest, highest)
-  if (high - low < Math.max(TINY_SPAN, Math.abs(low) * 1e-12, Math.abs(high) * 1e-12)) {
+  // A span under a billionth of the values is drawn as one value: finer steps would need more
+  // significant digits than the 12 the bounds are snapped to, and could leave data outside.
+  if (high - low < Math.max(TINY_SPAN, Math.abs(low) * 1e-9, Math.abs(high) * 1e-9)) {
     const middle = low / 2 + high / 2
     const half = Math.abs(middle) > TINY_SPAN ? Math.abs(middle) / 10 : 1
     low = middle - half

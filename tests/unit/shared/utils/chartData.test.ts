@@ -220,10 +220,21 @@ describe('niceAxis', () => {
   it('keeps whole steps, to double precision, for a narrow span far from zero (a case the property found)', () => {
     const low = -3.1901990353660817e-173
     const axis = niceAxis(low, low + 8.479615899124377e-183)
-    expect(axis.ticks).toBe(6)
+    // The span is under a billionth of the values, so it is drawn around one value.
+    expect(axis).toEqual(niceAxis(low, low))
     expect(axis.min).toBeLessThanOrEqual(low)
     expect(axis.max).toBeGreaterThanOrEqual(low + 8.479615899124377e-183)
     expect(Math.abs((axis.max - axis.min) / axis.step - axis.ticks)).toBeLessThan(4 * Number.EPSILON * (Math.abs(axis.min) + Math.abs(axis.max)) / axis.step)
+  })
+
+  it('covers a span of a trillionth of its values (a case the property found)', () => {
+    // fast-check seed 832817002: 12-digit snapping put the lower bound above the data.
+    const low = 2.579904445364395e-150
+    const high = low + 5.605465454786648e-162
+    const axis = niceAxis(low, high)
+    expect(axis.min).toBeLessThanOrEqual(low)
+    expect(axis.max).toBeGreaterThanOrEqual(high)
+    expect(axis.ticks).toBeGreaterThanOrEqual(2)
   })
 
   it('always covers the data, in whole steps, with a handful of ticks', () => {
