@@ -17,6 +17,8 @@ export const users = pgTable('users', {
   displayName: text('display_name').notNull(),
   passwordHash: text('password_hash').notNull(),
   siteRole: siteRole('site_role').notNull().default('user'),
+  /** Bumped when the password changes: a session made under an older epoch is no longer accepted. */
+  sessionEpoch: integer('session_epoch').notNull().default(0),
   createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
 }, t => [
   // E-mail addresses are unique whatever their case.
@@ -55,6 +57,8 @@ export const auditLog = pgTable('audit_log', {
   details: jsonb('details').$type<Record<string, unknown>>().notNull().default({}),
 }, t => [
   index('audit_log_room_idx').on(t.roomId, t.at),
+  // The join limiter counts one person's recent joins.
+  index('audit_log_actor_idx').on(t.actorId, t.action, t.at),
 ])
 
 /** Failed sign-ins, per address and per account, for throttling. Old rows are pruned on write. */

@@ -33,18 +33,21 @@ export default defineNitroPlugin((nitroApp) => {
   // Authenticate once, at the handshake, from the session cookie; sign-out disconnects the user's sockets.
   io.use(async (socket, next) => {
     let session: Awaited<ReturnType<typeof getUserSession>>
+    let account: Awaited<ReturnType<typeof currentSessionAccount>>
     try {
       const event = createEvent(socket.request, new ServerResponse(socket.request))
       // Nitro's own request handler sets this context; the session helpers read the runtime
       // config through it. Without it, a fresh process refused every socket until its first page.
       event.context.nitro = { errors: [] }
       session = await getUserSession(event)
+      // A session ended by a password change elsewhere is refused like no session at all.
+      account = await currentSessionAccount(session)
     }
     catch (error) {
       console.error('[realtime] handshake could not read the session:', (error as Error).message)
       return next(handshakeError('The server could not check your sign-in; trying again.', 'unavailable'))
     }
-    if (!session.user) return next(handshakeError('Sign in first.', 'signed-out'))
+    if (!session.user || !account) return next(handshakeError('Sign in first.', 'signed-out'))
     socket.data.userId = session.user.id
     socket.data.displayName = session.user.displayName
     socket.data.rooms = new Map()

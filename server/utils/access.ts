@@ -3,9 +3,11 @@ import type { H3Event } from 'h3'
 import { roomMembers, rooms } from '../database/schema'
 import { roleAllows, type RoomAction, type RoomRole } from '../../shared/roles'
 
-/** The signed-in user, or 401. */
+/** The signed-in user, or 401 (also for a session ended by a password change elsewhere). */
 export async function requireUser(event: H3Event) {
   const { user } = await requireUserSession(event)
+  const { account } = await currentUserSession(event)
+  if (!account) throw createError({ statusCode: 401, message: SESSION_ENDED })
   return user
 }
 

@@ -16,5 +16,5 @@ export function sessionUserOf(user: User) {
 }
 
 export async function startSession(event: H3Event, user: User) {
-  await replaceUserSession(event, { user: sessionUserOf(user), loggedInAt: Date.now() })
+  await replaceUserSession(event, { user: sessionUserOf(user), epoch: user.sessionEpoch, loggedInAt: Date.now() })
 }

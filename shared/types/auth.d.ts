@@ -7,6 +7,11 @@ declare module '#auth-utils' {
     displayName: string
     siteRole: SiteRole
   }
+  interface UserSession {
+    /** The account's session epoch when this session was made (see server/utils/sessions.ts). */
+    epoch?: number
+    loggedInAt?: number
+  }
 }
 
 export {}

@@ -67,6 +67,9 @@ const HTTP_MATRIX: Record<string, Row> = {
   // Site administration: the site role only, never a room role.
   'GET /api/admin/users':                                    [401, 403, 403, 403, 403, 403, 200, 403,  __],
   'PATCH /api/admin/users/[id]':                             [401, 403, 403, 403, 403, 403, 200, 403,  __],
+  // One's own account: any account. Asked with a wrong current password (400 once past the
+  // sign-in check), so no persona's sessions end.
+  'PUT /api/account/password':                               [401, 400, 400, 400, 400, 400, 400, 400,  __],
   // My rooms and new rooms: any account.
   'GET /api/rooms':                                          [401, 200, 200, 200, 200, 200, 200, 200,  __],
   'POST /api/rooms':                                         [401, 201, 201, 201, 201, 201, 201, 201,  __],
@@ -309,6 +312,7 @@ const REQUESTS: Record<string, RowRequest> = {
   'GET /api/dev/mail': { ask: ({ client }) => client.get('/api/dev/mail') },
   'POST /api/auth/sign-in': { ask: ({ client }) => client.post('/api/auth/sign-in', { email: targets.signInEmail, password: TEST_PASSWORD }) },
   'POST /api/auth/sign-out': { ask: ({ client }) => client.post('/api/auth/sign-out') },
+  'PUT /api/account/password': { ask: ({ client }) => client.put('/api/account/password', { currentPassword: 'not-the-current-password', newPassword: 'matrix-new-password' }) },
   'POST /api/auth/sign-up': { ask: ({ client }) => client.post('/api/auth/sign-up', { displayName: 'Matrix newcomer', email: uniqueEmail('matrix-signup'), password: TEST_PASSWORD }) },
   'POST /api/minutes/check': {
     ask: ({ client }) => {

@@ -30,6 +30,7 @@ export class Client {
   get<T = any>(path: string) { return this.request<T>('GET', path) }
   post<T = any>(path: string, body?: unknown) { return this.request<T>('POST', path, body ?? {}) }
   patch<T = any>(path: string, body?: unknown) { return this.request<T>('PATCH', path, body ?? {}) }
+  put<T = any>(path: string, body?: unknown) { return this.request<T>('PUT', path, body ?? {}) }
 }
 
 export const uniqueEmail = (label: string) => `${label}-${randomUUID().slice(0, 8)}@test.counterpoise.example`

@@ -23,8 +23,9 @@ export default defineEventHandler(async (event) => {
   const address = event.node.req.socket.remoteAddress ?? ''
   const loopback = address === '::1' || address.startsWith('127.') || address.startsWith('::ffff:127.')
   if (!loopback) {
-    const session = await getUserSession(event)
-    if (session.user?.siteRole !== 'admin') throw createError({ statusCode: 404, message: 'Not found.' })
+    // The role is read from the database: the cookie may predate a change, or have been ended.
+    const { account } = await currentUserSession(event)
+    if (account?.siteRole !== 'admin') throw createError({ statusCode: 404, message: 'Not found.' })
   }
   const dir = resolve(process.env.MAIL_DIR || '.data/mail')
   // No directory yet simply means no mail yet.

@@ -11,7 +11,9 @@ const ACCOUNT_EXISTS = 'An account with this e-mail address already exists. Sign
  */
 export default defineEventHandler(async (event) => {
   const token = invitationTokenOf(event)
-  const { user: sessionUser } = await getUserSession(event)
+  const { session, account } = await currentUserSession(event)
+  if (session.user && !account) throw createError({ statusCode: 401, message: SESSION_ENDED })
+  const sessionUser = account
 
   if (sessionUser) {
     return useDb().transaction(async (tx) => {
