@@ -6,23 +6,24 @@
 import { createHash } from 'node:crypto'
 import { beforeAll, describe, expect, inject, it } from 'vitest'
 import { signPdf } from '../../server/utils/pdfSigning'
+import { startBuiltServer } from '../support/server'
 import { PNG_BYTES, offsetInSignedStream, sampleMinutesPdf, withFlippedByte } from '../fixtures/minutes/sampleMinutes'
 
 const baseUrl = inject('baseUrl')
 const TWENTY_MB = 20 * 1024 * 1024
 
 /** POST the check as a browser's FormData would, with no session cookie. */
-async function check(bytes: Buffer, name = 'minutes.pdf', field = 'file') {
+async function check(bytes: Buffer, name = 'minutes.pdf', field = 'file', base = baseUrl) {
   const form = new FormData()
   form.set(field, new Blob([new Uint8Array(bytes)]), name)
-  const answer = await fetch(`${baseUrl}/api/minutes/check`, { method: 'POST', body: form, headers: { accept: 'application/json' } })
+  const answer = await fetch(`${base}/api/minutes/check`, { method: 'POST', body: form, headers: { accept: 'application/json' } })
   const text = await answer.text()
   let body: any = text
   try {
     body = JSON.parse(text)
   }
   catch { /* not JSON */ }
-  return { status: answer.status, body }
+  return { status: answer.status, body, headers: answer.headers }
 }
 
 let unsigned: Buffer
@@ -106,4 +107,26 @@ describe('checking minutes (no sign-in)', () => {
     expect(answer.status).toBe(400)
     expect((await answer.json()).message).toMatch(/multipart\/form-data/)
   })
+})
+
+describe('checking minutes, limited per address', () => {
+  it('answers 429 with Retry-After after COUNTERPOISE_CHECK_LIMIT checks from one address; another address carries on', async () => {
+    const limited = await startBuiltServer({ ...process.env, BASE_URL: '', COUNTERPOISE_CHECK_LIMIT: '3' })
+    try {
+      const v4 = limited.baseUrl
+      const v6 = v4.replace('127.0.0.1', '[::1]')
+      for (let i = 0; i < 3; i++) expect((await check(unsigned, 'minutes.pdf', 'file', v4)).status).toBe(200)
+      const refused = await check(unsigned, 'minutes.pdf', 'file', v4)
+      expect(refused.status).toBe(429)
+      expect(refused.body.message).toMatch(/Too many minutes checked/)
+      expect(Number(refused.headers.get('retry-after'))).toBeGreaterThan(500)
+      expect(Number(refused.headers.get('retry-after'))).toBeLessThanOrEqual(600)
+      // Even a malformed request counts, and is refused before its body is read.
+      expect((await check(Buffer.from('not a pdf'), 'x.txt', 'file', v4)).status).toBe(429)
+      expect((await check(unsigned, 'minutes.pdf', 'file', v6)).status).toBe(200)
+    }
+    finally {
+      await limited.stop()
+    }
+  }, 60_000)
 })
