@@ -62,8 +62,12 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
     retryDelay = 1000
     join()
   })
-  socket.on('disconnect', () => {
+  socket.on('disconnect', (reason) => {
     connection.value = navigator.onLine ? 'reconnecting' : 'offline'
+    // The server ends sockets on sign-out and on a password change; socket.io does not come back by
+    // itself then. Try again: a still-valid session (the one that changed the password) carries on,
+    // an ended one is told it is signed out.
+    if (reason === 'io server disconnect') retryLater()
   })
   socket.io.on('reconnect_attempt', () => {
     connection.value = navigator.onLine ? 'reconnecting' : 'offline'
