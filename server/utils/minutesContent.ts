@@ -8,6 +8,7 @@ import { ROOM_ROLES, ROOM_ROLE_LABELS } from '../../shared/roles'
 import { STATUS_VOCABULARY, directionWords, joinWords, formatNumber, formatScore, statusSentence } from '../../shared/statusVocabulary'
 import type { AlternativeStatus, Criterion } from '../../shared/types/decision'
 import type { MinutesAlternative, MinutesAmendment, MinutesContent, MinutesCriterion, MinutesParticipant, MinutesResolution, MinutesRound, MinutesVote } from '../../shared/types/minutes'
+import { pairFront } from '../../shared/utils/chartData'
 import { GROUP_RULE_LABELS } from '../../shared/utils/narrowing'
 import { largestRemainderPercentages } from '../../shared/utils/percentages'
 import { tallyBallots } from '../../shared/utils/tally'
@@ -233,6 +234,7 @@ export async function minutesContent(roomId: string, options: { resolution?: Res
     criteria,
     alternatives,
     counts: analysis.counts as Record<AlternativeStatus, number>,
+    front: version.criteria.length >= 2 ? pairFront(ledgerView(version), version.criteria[0]!.id, version.criteria[1]!.id) : null,
     rounds: await roundsOf(roomId, revealed),
     vote: await latestClosedVote(db, roomId),
     resolution: resolution ? await resolutionView(db, resolution, version) : null,

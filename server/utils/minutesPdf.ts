@@ -14,8 +14,9 @@ import { existsSync } from 'node:fs'
 import { createRequire } from 'node:module'
 import { join } from 'node:path'
 import PDFDocument from 'pdfkit'
-import { STATUS_VOCABULARY } from '../../shared/statusVocabulary'
+import { STATUS_VOCABULARY, formatNumber } from '../../shared/statusVocabulary'
 import type { MinutesContent } from '../../shared/types/minutes'
+import { niceAxis, type PairFront } from '../../shared/utils/chartData'
 
 const INK = '#12393a'
 const MUTED = '#454e57'
@@ -241,6 +242,71 @@ export async function renderMinutesPdf(content: MinutesContent, options: Minutes
     doc.y = y0 + rows.length * rowHeight + 8
   }
 
+  /**
+   * The scatter of two criteria: efficient alternatives as dark dots (named when there are few),
+   * weakly efficient ones in brass, dominated ones as rings, those outside limits as crosses, and
+   * the front of the pair as a staircase line. Axes carry the criteria's names, units and directions.
+   */
+  const frontChart = (front: PairFront) => {
+    if (front.points.length === 0) return
+    const plotHeight = 190
+    const left = MARGIN + 46
+    const plotWidth = width - 46 - 8
+    ensure(plotHeight + 90)
+    text(`Front of ${front.x.name} and ${front.y.name}`, { size: 10, weight: 'bold', gap: 1 })
+    text('The first two criteria only: an alternative can also be efficient through the others.', { size: 8, color: MUTED, gap: 6 })
+    const xs = front.points.map(p => p.x)
+    const ys = front.points.map(p => p.y)
+    const ax = niceAxis(Math.min(...xs), Math.max(...xs))
+    const ay = niceAxis(Math.min(...ys), Math.max(...ys))
+    const top = doc.y
+    const px = (x: number) => left + ((x - ax.min) / (ax.max - ax.min)) * plotWidth
+    const py = (y: number) => top + plotHeight - ((y - ay.min) / (ay.max - ay.min)) * plotHeight
+    doc.rect(left, top, plotWidth, plotHeight).lineWidth(0.6).strokeColor(RULE).stroke()
+    for (let i = 0; i <= ax.ticks; i++) {
+      const v = ax.min + i * ax.step
+      const label = formatNumber(Number(v.toFixed(ax.decimals)))
+      fonts.use(label, 'regular', 7)
+      doc.fillColor(MUTED).text(label, px(v) - 20, top + plotHeight + 3, { width: 40, align: 'center', lineBreak: false })
+    }
+    for (let i = 0; i <= ay.ticks; i++) {
+      const v = ay.min + i * ay.step
+      const label = formatNumber(Number(v.toFixed(ay.decimals)))
+      fonts.use(label, 'regular', 7)
+      doc.fillColor(MUTED).text(label, MARGIN, py(v) - 4, { width: 42, align: 'right', lineBreak: false })
+    }
+    if (front.staircase.length > 1) {
+      const [first, ...rest] = front.staircase
+      doc.moveTo(px(first![0]), py(first![1]))
+      for (const [x, y] of rest) doc.lineTo(px(x), py(y))
+      doc.lineWidth(1.2).strokeColor(BAR).stroke()
+    }
+    const named = front.points.length <= 15
+    for (const p of front.points) {
+      const x = px(p.x)
+      const y = py(p.y)
+      if (p.status === 'infeasible') {
+        doc.moveTo(x - 3, y - 3).lineTo(x + 3, y + 3).moveTo(x - 3, y + 3).lineTo(x + 3, y - 3).lineWidth(1).strokeColor('#9aa3ab').stroke()
+      }
+      else if (p.status === 'dominated') {
+        doc.circle(x, y, 3).lineWidth(0.9).strokeColor('#9aa3ab').stroke()
+      }
+      else {
+        doc.circle(x, y, 3.4).fillColor(p.status === 'weakly-efficient' ? BAR : INK).fill()
+      }
+      if (named && (p.status === 'efficient' || p.status === 'unsupported' || p.onFront)) {
+        const name = clean(p.name)
+        fonts.use(name, 'regular', 7)
+        doc.fillColor(INK).text(name, Math.min(x + 5, left + plotWidth - 80), y - 9, { width: 80, lineBreak: false, ellipsis: true })
+      }
+    }
+    const axisText = (c: PairFront['x']) => `${c.name}${c.unit ? ` (${c.unit})` : ''}, ${c.direction === 'min' ? 'lower' : 'higher'} is better`
+    doc.y = top + plotHeight + 14
+    text(`Across: ${axisText(front.x)}. Up: ${axisText(front.y)}.`, { size: 8, color: MUTED, gap: 2 })
+    text('● efficient   ◐ weakly efficient only   ○ dominated   × outside limits   — front of the two criteria', { size: 8, color: MUTED, gap: 6 })
+    doc.x = MARGIN
+  }
+
   // ── title ──
   if (options.draft) text('DRAFT — not signed. The signed minutes are the file the secretary signs.', { size: 9, weight: 'bold', color: '#9c3f25', gap: 6 })
   text('Minutes', { size: 11, weight: 'bold', color: MUTED, gap: 0 })
@@ -302,6 +368,8 @@ export async function renderMinutesPdf(content: MinutesContent, options: Minutes
     for (const b of a.brokenLimits) text(b, { size: 9, indent: 12, color: MUTED, gap: 1 })
     doc.y += 3
   }
+
+  if (content.front) frontChart(content.front)
 
   // ── rounds ──
   heading('Weighing rounds')

@@ -1,3 +1,4 @@
+import type { PairFront } from '../utils/chartData'
 /**
  * The content of a room's minutes: what the preview page shows and the PDF prints, assembled once
  * on the server (server/utils/minutesContent.ts) so both say the same. Plain data; times are ISO 8601.
@@ -139,6 +140,8 @@ export interface MinutesContent {
   criteria: MinutesCriterion[]
   alternatives: MinutesAlternative[]
   counts: Record<AlternativeStatus, number>
+  /** The front of the first two criteria, drawn in the PDF; null with fewer than two criteria. */
+  front: PairFront | null
   rounds: MinutesRound[]
   vote: MinutesVote | null
   resolution: MinutesResolution | null

@@ -48,6 +48,17 @@ export function sampleContent(overrides: Partial<MinutesContent> = {}): MinutesC
       { id: 'tower', name: 'Tower Αθήνα', status: 'infeasible', statusLabel: 'Outside limits', scoresText: ['70 £k', '990 homes'], dominatedBy: null, worseOn: [], brokenLimits: ['Cost 70 £k is above the highest acceptable 60 £k'], explanation: '' },
     ],
     counts: { 'efficient': 1, 'weakly-efficient': 0, 'dominated': 1, 'infeasible': 1 },
+    front: {
+      x: { id: 'cost', name: 'Cost', unit: '£k', direction: 'min', highest: 60 },
+      y: { id: 'homes', name: 'Homes protected', unit: 'homes', direction: 'max' },
+      points: [
+        { id: 'north', name: 'North wall', x: 40, y: 900, status: 'efficient', onFront: true },
+        { id: 'south', name: 'South wall', x: 50, y: 800, status: 'dominated', onFront: false },
+        { id: 'tower', name: 'Tower Αθήνα', x: 70, y: 990, status: 'infeasible', onFront: false },
+      ],
+      front: [{ x: 40, y: 900, ids: ['north'], names: ['North wall'] }],
+      staircase: [[40, 900]],
+    },
     rounds: [{
       number: 1, anonymous: true, inputStyle: 'sliders', ledgerVersion: 3, openedAt: '2026-11-30T09:00:00.000Z', closedAt: '2026-11-30T09:10:00.000Z', revealedAt: '2026-11-30T09:11:00.000Z',
       weightings: [{ label: 'Stakeholder 1', weightsPercent: [70, 30], favourites: ['North wall'] }, { label: 'Stakeholder 2', weightsPercent: [20, 80], favourites: ['North wall'] }],
@@ -112,6 +123,17 @@ describe('renderMinutesPdf', () => {
       return n
     }
     expect(rectangles(withChart)).toBeGreaterThanOrEqual(rectangles(without) + 3)
+  })
+
+  it('draws the front of the first two criteria, with named points and labelled axes', async () => {
+    const pdf = await renderMinutesPdf(sampleContent(), { draft: false })
+    const text = poppler('pdftotext', pdf)
+    expect(text).toContain('Front of Cost and Homes protected')
+    expect(text).toContain('Across: Cost (£k), lower is better. Up: Homes protected (homes), higher is better.')
+    const without = poppler('pdftotext', await renderMinutesPdf(sampleContent({ front: null }), { draft: false }))
+    expect(without).not.toContain('Front of')
+    // The axis ticks come from niceAxis over the scores (40–70 £k, 800–990 homes).
+    expect(text).toMatch(/\b1[,.]?000\b/)
   })
 
   it('names files from the title', () => {
