@@ -1,3 +1,4 @@
+import { spawnSync } from 'node:child_process'
 import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
 import type { Alternative, Criterion, Direction } from '../../../../shared/types/decision'
@@ -185,6 +186,18 @@ describe('escapeTooltipText', () => {
     expect(escapeTooltipText('<img src=x onerror="alert(1)"> & \'Co\'')).toBe('&lt;img src=x onerror=&quot;alert(1)&quot;&gt; &amp; &#39;Co&#39;')
     expect(escapeTooltipText('North Wall')).toBe('North Wall')
   })
+
+  // The legend and tooltip text ApexCharts writes with innerHTML: no markup survives, and an HTML
+  // parser gives back exactly the name (outside check: Python's html.unescape, the standard library's
+  // decoder of HTML character references).
+  it('leaves no markup in hostile names, and decodes back to the name as typed', () => {
+    const hostile = ['<script>window.__pwned=1</script>', '<img src=x onerror="window.__pwned=1">', '"><svg onload=alert(1)>', '{{ 7*7 }}', 'javascript:alert(1)', '=HYPERLINK("http://x")', 'Ash & Oak\'s &amp; "quotes"']
+    const escaped = hostile.map(escapeTooltipText)
+    for (const text of escaped) expect(text).not.toMatch(/[<>"']/)
+    const decoded = spawnSync('python3', ['-c', 'import html, json, sys; print(json.dumps([html.unescape(s) for s in json.load(sys.stdin)]))'], { input: JSON.stringify(escaped), encoding: 'utf8' })
+    expect(decoded.status, decoded.stderr).toBe(0)
+    expect(JSON.parse(decoded.stdout)).toEqual(hostile)
+  }, 20_000) // starting Python can take seconds on a busy machine
 })
 
 describe('niceAxis', () => {
