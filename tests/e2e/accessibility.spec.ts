@@ -170,6 +170,10 @@ test('the facilitator\'s pages pass axe', async ({ page, baseURL }, testInfo) =>
   await expect(page.getByRole('heading', { name: 'New room' })).toBeVisible()
   await check(page, 'new room')
 
+  await page.getByTestId('account-link').click()
+  await expect(page.getByRole('heading', { name: 'Your account' })).toBeVisible()
+  await check(page, 'your account')
+
   await page.goto(`/rooms/${room.roomId}`)
   await expect(page.getByTestId('room-title')).toBeVisible()
   const tabs = page.getByRole('tab')

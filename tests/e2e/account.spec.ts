@@ -20,7 +20,8 @@ test('changing the password on one device signs the other device out, live page 
   await expect(phone.getByTestId('room-title')).toHaveText('Password room')
   await expect(phone.getByTestId('connection')).toContainText('Live')
 
-  await page.goto('/account')
+  await page.goto('/rooms')
+  await page.getByTestId('account-link').click()
   await expect(page.getByRole('heading', { name: 'Your account' })).toBeVisible()
   await expect(page.getByText(email)).toBeVisible()
   // A wrong current password changes nothing and says which field.
