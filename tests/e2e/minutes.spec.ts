@@ -73,15 +73,20 @@ test('the secretary previews, signs and sends the minutes; the check page accept
   const draft = await page.request.get(`/api/rooms/${roomId}/minutes/draft.pdf`)
   expect(draft.headers()['content-type']).toBe('application/pdf')
 
+  // Signing freezes the decision: it asks first, and Cancel signs nothing.
   await page.getByTestId('minutes-sign').click()
-  await page.getByTestId('minutes-sign-confirm').click()
+  await page.getByTestId('minutes-sign-dialog').getByTestId('confirm-cancel').click()
+  await expect(page.getByTestId('minutes-sign-dialog')).toBeHidden()
+  await expect(page.getByTestId('minutes-record')).toHaveCount(0)
+  await page.getByTestId('minutes-sign').click()
+  await page.getByTestId('minutes-sign-dialog').getByTestId('confirm-accept').click()
   await expect(page.getByTestId('minutes-record')).toHaveCount(1)
   const sha256 = (await page.getByTestId('minutes-record-sha256').textContent())!.trim()
   expect(sha256).toMatch(/^[0-9a-f]{64}$/)
   await expect(page.getByTestId('minutes-sign')).toBeDisabled()
 
   await page.getByTestId('minutes-send').click()
-  await page.getByTestId('minutes-send-confirm').click()
+  await page.getByTestId('minutes-send-dialog').getByTestId('confirm-accept').click()
   await expect(page.getByTestId('minutes-notice')).toHaveText('Sent to 4 members.')
 
   const href = await page.getByTestId('minutes-record').getByRole('link').getAttribute('href')

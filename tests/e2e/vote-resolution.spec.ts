@@ -129,7 +129,7 @@ test('vote, resolution, signed minutes: a phone votes, the facilitator records, 
   // The minutes say plainly that the room chose a dominated alternative.
   await expect(secretary.getByTestId('minutes-decision')).toContainText(/dominated/i)
   await secretary.getByTestId('minutes-sign').click()
-  await secretary.getByTestId('minutes-sign-confirm').click()
+  await secretary.getByTestId('minutes-sign-dialog').getByTestId('confirm-accept').click()
   await expect(secretary.getByTestId('minutes-record')).toHaveCount(1)
   const sha256 = (await secretary.getByTestId('minutes-record-sha256').textContent())!.trim()
   expect(sha256).toMatch(/^[0-9a-f]{64}$/)
@@ -137,7 +137,7 @@ test('vote, resolution, signed minutes: a phone votes, the facilitator records, 
   expect((await testDb().query('select frozen_at is not null as frozen from resolutions where room_id = $1', [roomId])).rows).toEqual([{ frozen: true }])
   await expect(testDb().query('update resolutions set rationale = $2 where room_id = $1', [roomId, 'rewritten'])).rejects.toThrow(/frozen/)
   await secretary.getByTestId('minutes-send').click()
-  await secretary.getByTestId('minutes-send-confirm').click()
+  await secretary.getByTestId('minutes-send-dialog').getByTestId('confirm-accept').click()
   await expect(secretary.getByTestId('minutes-notice')).toHaveText(/^Sent to \d+ members\.$/)
 
   // Anyone can check the file: the signed copy is valid and held here; one changed byte is not.
