@@ -3,20 +3,27 @@ import type { H3Event } from 'h3'
 import { roomMembers, rooms } from '../database/schema'
 import { roleAllows, type RoomAction, type RoomRole } from '../../shared/roles'
 
+/**
+ * The account behind the request's session, read from the database, or 401: signed out, or a
+ * session ended by a password change elsewhere.
+ */
+export async function requireAccount(event: H3Event) {
+  const { session, account } = await currentUserSession(event)
+  if (!session.user) throw createError({ statusCode: 401, message: 'Unauthorized' })
+  if (!account) throw createError({ statusCode: 401, message: SESSION_ENDED })
+  return { user: session.user, account }
+}
+
 /** The signed-in user, or 401 (also for a session ended by a password change elsewhere). */
 export async function requireUser(event: H3Event) {
-  const { user } = await requireUserSession(event)
-  const { account } = await currentUserSession(event)
-  if (!account) throw createError({ statusCode: 401, message: SESSION_ENDED })
-  return user
+  return (await requireAccount(event)).user
 }
 
 /** The signed-in site administrator, or 401/403. */
 export async function requireAdmin(event: H3Event) {
-  const user = await requireUser(event)
-  // The session may predate a role change: ask the database, not the cookie.
-  const current = await findUserById(user.id)
-  if (current?.siteRole !== 'admin') throw createError({ statusCode: 403, message: 'Only a site administrator can do this.' })
+  // The session may predate a role change: the role comes from the database, not the cookie.
+  const { user, account } = await requireAccount(event)
+  if (account.siteRole !== 'admin') throw createError({ statusCode: 403, message: 'Only a site administrator can do this.' })
   return user
 }
 

@@ -8,11 +8,10 @@ import { users } from '../../database/schema'
  * Guesses at the current password count against the same limits as sign-in.
  */
 export default defineEventHandler(async (event) => {
-  const sessionUser = await requireUser(event)
+  const { user: sessionUser, account: user } = await requireAccount(event)
   const body = await validBody(event, ChangePasswordBody)
   await assertSignInAllowed(event, sessionUser.email)
-  const user = await findUserById(sessionUser.id)
-  if (!user || !await verifyPassword(user.passwordHash, body.currentPassword)) {
+  if (!await verifyPassword(user.passwordHash, body.currentPassword)) {
     await recordSignInFailure(event, sessionUser.email)
     const message = 'The current password is not right.'
     throw createError({ statusCode: 400, message, data: { fieldErrors: { currentPassword: message } } })
