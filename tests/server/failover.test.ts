@@ -19,33 +19,10 @@ import { normaliseWeights } from '../../shared/utils/scalarise'
 import { newPerson, type Client } from '../support/client'
 import { closeTestDb, testDb } from '../support/db'
 import { Phone, RoomDevice, type PhoneSubmission } from '../support/phone'
+import { alternatives, criteria, faultSize, sleep, sliders, until } from '../support/faults'
 import { startBuiltServer, type RunningServer } from '../support/server'
 
-// npm test runs 6 phones; `npm run bench:faults` runs the same test with COUNTERPOISE_FAULT_PHONES (200).
-const PHONES = Number(process.env.COUNTERPOISE_FAULT_PHONES || 6)
-/** Waits grow with the number of phones: 200 phones sign up, connect and resend far more than 6. */
-const scaled = (ms: number, perPhone: number) => ms + perPhone * Math.max(0, PHONES - 6)
-const criteria = [
-  { id: 'cost', name: 'Cost', unit: '£k', direction: 'min' as const },
-  { id: 'reach', name: 'Reach', unit: 'people', direction: 'max' as const },
-  { id: 'delay', name: 'Delay', unit: 'weeks', direction: 'min' as const },
-]
-const alternatives = [
-  { id: 'lean', name: 'Lean plan', scores: { cost: 10, reach: 100, delay: 10 } },
-  { id: 'broad', name: 'Broad plan', scores: { cost: 50, reach: 900, delay: 12 } },
-  { id: 'quick', name: 'Quick plan', scores: { cost: 40, reach: 300, delay: 2 } },
-]
-
-const sleep = (ms: number) => new Promise(resolve => setTimeout(resolve, ms))
-async function until(test: () => boolean, ms: number) {
-  const deadline = Date.now() + ms
-  while (!test()) {
-    if (Date.now() > deadline) return false
-    await sleep(25)
-  }
-  return true
-}
-const sliders = () => criteria.map((_, k) => k === 0 ? 1 + Math.floor(Math.random() * 100) : Math.floor(Math.random() * 101))
+const { phones: PHONES, scaled } = faultSize(6)
 const portOf = (server: RunningServer) => Number(new URL(server.baseUrl).port)
 
 /** A TCP switch: forwards each new connection to `target`; can stop forwarding what clients send on the connections it has. */
