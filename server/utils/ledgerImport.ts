@@ -19,7 +19,8 @@
  * - The first non-empty row is the header. Row numbers are those a spreadsheet shows: the first
  *   line of the file is row 1, and a quoted cell with line breaks inside stays one row.
  * - Column A holds the alternatives' names, whatever its header says. Names are trimmed and runs of
- *   spaces or line breaks inside them become one space. Names must be unique, ignoring case.
+ *   spaces or line breaks inside them become one space; any other control character is refused
+ *   (the same rule as the ledger form's, shared/schemas/text.ts). Names must be unique, ignoring case.
  *   In names and headers, an apostrophe before a leading =, +, - or @ is dropped: our CSV export
  *   adds it so spreadsheets do not run the text as a formula, and the file should read back as it
  *   was written (so a name that really begins with '- loses its apostrophe).
@@ -27,6 +28,8 @@
  *   optionally followed by the unit in brackets: "Capital cost (£m)" or "Capital cost [£m]" matches
  *   the criterion "Capital cost". When a unit is given it must be the criterion's unit (spaces
  *   ignored, case kept, since mW is not MW): otherwise the numbers are probably in another unit.
+ * - The verdict columns of our own CSV export (Status, Reason, Weighted sum can favour it) are read
+ *   past when no criterion has that name, so an exported file uploads again unchanged.
  * - Columns that match no criterion, a criterion matched twice and a criterion with no column are
  *   problems. A column with neither header nor values (trailing separators) is ignored.
  * - Rows that are entirely empty are ignored wherever they are (trailing rows included).
@@ -67,6 +70,8 @@ import { createError, getRequestHeader, readMultipartFormData, type H3Event } fr
 import Papa from 'papaparse'
 import { z } from 'zod'
 import { MAX_ALTERNATIVES } from '../../shared/schemas/ledger'
+import { forbiddenAt, SINGLE_LINE_FORBIDDEN } from '../../shared/schemas/text'
+import { EXPORT_VERDICT_HEADERS } from '../../shared/utils/ledgerExport'
 import type { Alternative, Criterion } from '../../shared/types/decision'
 import {
   CSV_DELIMITERS,
@@ -263,6 +268,7 @@ const CELL_SUMMARIES: Partial<Record<ImportProblemCode, (n: number, column: stri
   'cell-error': (n, c) => `${plural(n, 'cell', 'cells')} in ${c} ${n === 1 ? 'holds' : 'hold'} a spreadsheet error such as #DIV/0! — correct the formulas in the workbook.`,
   'name-empty': n => `${plural(n, 'row has', 'rows have')} no name in column A — name every alternative, or delete rows that are not alternatives.`,
   'name-too-long': n => `${plural(n, 'name is', 'names are')} longer than ${MAX_IMPORT_NAME_LENGTH} characters — shorten ${n === 1 ? 'it' : 'them'} in the file.`,
+  'name-control-character': n => `${plural(n, 'name holds', 'names hold')} a control character (such as a NUL or a bell) — delete ${n === 1 ? 'it' : 'them'} in the file.`,
   'name-duplicate': n => `${plural(n, 'name repeats', 'names repeat')} an earlier row — give each alternative its own name.`,
   'row-too-long': n => `${plural(n, 'row has', 'rows have')} more cells than the header — values may have shifted; check ${n === 1 ? 'it' : 'them'} in the file.`,
   'row-too-short': n => `${plural(n, 'row has', 'rows have')} fewer cells than the header — values may have shifted; check ${n === 1 ? 'it' : 'them'} in the file.`,
@@ -570,6 +576,9 @@ interface Layout {
   headerWidth: number
 }
 
+/** Headers of the verdict columns our CSV export adds, so an exported file uploads again as it is. */
+const EXPORT_VERDICT_KEYS = new Set(EXPORT_VERDICT_HEADERS.map(nameKey))
+
 function readHeader(grid: Grid, criteria: readonly Criterion[], problems: Problems): Layout | null {
   const header = grid.rows[0]!
   const texts = header.cells.map(cell => tidy(cellText(cell)))
@@ -600,6 +609,10 @@ function readHeader(grid: Grid, criteria: readonly Criterion[], problems: Proble
     width = c + 1
     const match = criterionFor(text, criteria)
     const where = { row: header.row, column: text, columnLetter: letter }
+    if (!match && EXPORT_VERDICT_KEYS.has(nameKey(text))) {
+      columns.push({ header: text, letter, criterionId: null, ignored: true })
+      continue
+    }
     if (!match) {
       const names = criteria.slice(0, 8).map(c => c.name).join(', ') + (criteria.length > 8 ? ', …' : '')
       problems.add('column-unknown', `This column does not match any criterion of the room (${names}). Remove the column, or rename it to one of them.`, where)
@@ -793,6 +806,11 @@ export async function parseLedgerFile(file: LedgerImportFile, criteria: readonly
     }
     else if (name.length > MAX_IMPORT_NAME_LENGTH) {
       problems.add('name-too-long', `The name has ${name.length} characters; keep it under ${MAX_IMPORT_NAME_LENGTH}.`, { ...at(0), value: shorten(name) })
+    }
+    else if (SINGLE_LINE_FORBIDDEN.test(name)) {
+      const at0 = forbiddenAt(name, SINGLE_LINE_FORBIDDEN)!
+      const visible = shorten(name.replace(new RegExp(SINGLE_LINE_FORBIDDEN.source, 'gu'), '\uFFFD'))
+      problems.add('name-control-character', `Character ${at0.position} of the name is the control character ${at0.code}; names stay plain text on one line. Delete it in the file.`, { ...at(0), value: visible })
     }
     else if (name !== '') {
       const key = nameKey(name)

@@ -3,7 +3,7 @@
  * that the preview page shows and the PDF prints. Reads only; the anonymity rule is described there.
  */
 import { and, asc, count, desc, eq, max, min } from 'drizzle-orm'
-import { auditLog, ballots, ledgerVersions, resolutions, roomMembers, rooms, users, votes, weighings, type LedgerVersion, type Resolution } from '../database/schema'
+import { attachments, auditLog, ballots, ledgerVersions, resolutions, roomMembers, rooms, users, votes, weighings, type LedgerVersion, type Resolution } from '../database/schema'
 import { ROOM_ROLES, ROOM_ROLE_LABELS } from '../../shared/roles'
 import { STATUS_VOCABULARY, directionWords, joinWords, formatNumber, formatScore, statusSentence } from '../../shared/statusVocabulary'
 import type { AlternativeStatus, Criterion } from '../../shared/types/decision'
@@ -218,9 +218,12 @@ export async function minutesContent(roomId: string, options: { resolution?: Res
     }
   })
 
-  const [auditCounts, [auditSpan]] = await Promise.all([
+  const [auditCounts, [auditSpan], [source]] = await Promise.all([
     db.select({ action: auditLog.action, count: count() }).from(auditLog).where(eq(auditLog.roomId, roomId)).groupBy(auditLog.action).orderBy(asc(auditLog.action)),
     db.select({ first: min(auditLog.at), last: max(auditLog.at) }).from(auditLog).where(eq(auditLog.roomId, roomId)),
+    version.attachmentId
+      ? db.select({ filename: attachments.filename, size: attachments.size, sha256: attachments.sha256 }).from(attachments).where(and(eq(attachments.id, version.attachmentId), eq(attachments.roomId, roomId)))
+      : Promise.resolve([]),
   ])
 
   return {
@@ -230,7 +233,7 @@ export async function minutesContent(roomId: string, options: { resolution?: Res
     participants: await participantsOf(db, roomId, withhold),
     stakeholderNamesWithheld: withhold,
     anonymityNote: withhold ? ANONYMITY_NOTE_WITHHELD : ANONYMITY_NOTE_NAMED,
-    ledger: { version: version.number, hash: version.hash, createdAt: version.createdAt.toISOString(), note: version.note },
+    ledger: { version: version.number, hash: version.hash, createdAt: version.createdAt.toISOString(), note: version.note, source: source ?? null },
     criteria,
     alternatives,
     counts: analysis.counts as Record<AlternativeStatus, number>,

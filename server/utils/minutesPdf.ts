@@ -17,6 +17,7 @@ import PDFDocument from 'pdfkit'
 import { STATUS_VOCABULARY, formatNumber } from '../../shared/statusVocabulary'
 import type { MinutesContent } from '../../shared/types/minutes'
 import { niceAxis, type PairFront } from '../../shared/utils/chartData'
+import { fileSize } from '../../shared/utils/fileSize'
 
 const INK = '#12393a'
 const MUTED = '#454e57'
@@ -316,6 +317,10 @@ export async function renderMinutesPdf(content: MinutesContent, options: Minutes
   labelled('Prepared', dateTime(content.preparedAt))
   labelled('Option table', `version ${content.ledger.version}, recorded ${dateTime(content.ledger.createdAt)}`)
   labelled('SHA-256', content.ledger.hash)
+  if (content.ledger.source) {
+    const { filename, size, sha256 } = content.ledger.source
+    labelled('Read from', `${filename} (${fileSize(size)}), kept with the room; its SHA-256 ${sha256}`)
+  }
   doc.y += 4
   text(content.caution, { size: 9, color: MUTED, gap: 4 })
 

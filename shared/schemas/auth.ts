@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { singleLine } from './text'
 
 export const PASSWORD_MIN_LENGTH = 10
 
@@ -13,7 +14,7 @@ const newPassword = z.string({ error: 'Choose a password.' })
   .max(200, { error: 'Keep the password under 200 characters.' })
 
 export const SignUpBody = z.object({
-  displayName: z.string({ error: 'Enter your name.' }).trim().min(1, { error: 'Enter your name.' }).max(80, { error: 'Keep the name under 80 characters.' }),
+  displayName: singleLine(z.string({ error: 'Enter your name.' }).trim().min(1, { error: 'Enter your name.' }).max(80, { error: 'Keep the name under 80 characters.' }), 'Your name'),
   email,
   password: newPassword,
 })

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { multiLine } from './text'
 import { BALLOT_CHOICES } from '../types/resolution'
 
 /** The most alternatives one ballot can hold: every one is a row of three buttons on a phone. */
@@ -29,7 +30,7 @@ const Choices = z.record(
 
 /** A ballot over HTTP (the room and vote come from the path). The idempotency key is made by the phone, once per ballot. */
 export const CastBallotHttpBody = z.object({
-  idempotencyKey: z.string({ error: 'Missing ballot key.' }).min(8, { error: 'Missing ballot key.' }).max(80, { error: 'Ballot key too long.' }),
+  idempotencyKey: z.string({ error: 'Missing ballot key.' }).min(8, { error: 'Missing ballot key.' }).max(80, { error: 'Ballot key too long.' }).regex(/^[\x21-\x7E]+$/, { error: 'A ballot key is printable ASCII without spaces.' }),
   choices: Choices,
 })
 export type CastBallotHttpBody = z.infer<typeof CastBallotHttpBody>
@@ -41,7 +42,7 @@ export const CastBallotBody = CastBallotHttpBody.extend({
 })
 export type CastBallotBody = z.infer<typeof CastBallotBody>
 
-const text = (max: number, what: string) => z.string({ error: `${what} must be text.` }).trim().max(max, { error: `Keep the ${what.toLowerCase()} under ${max} characters.` })
+const text = (max: number, what: string) => multiLine(z.string({ error: `${what} must be text.` }).trim().max(max, { error: `Keep the ${what.toLowerCase()} under ${max} characters.` }), what)
 
 /** The decision as the facilitator records it. */
 export const RecordResolutionBody = z.object({

@@ -25,7 +25,7 @@ export const Ranking = z.array(z.union([z.string().min(1).max(64), z.array(z.str
 export const SubmitWeightsBody = z.object({
   roomId: z.uuid({ error: 'Unknown room.' }),
   weighingId: z.uuid({ error: 'Unknown weighing.' }),
-  idempotencyKey: z.string().min(8, { error: 'Missing submission key.' }).max(80, { error: 'Submission key too long.' }),
+  idempotencyKey: z.string().min(8, { error: 'Missing submission key.' }).max(80, { error: 'Submission key too long.' }).regex(/^[\x21-\x7E]+$/, { error: 'A submission key is printable ASCII without spaces.' }),
   weights: z.array(z.number({ error: 'Weights must be numbers.' }).finite({ error: 'Weights must be finite numbers.' }).min(0, { error: 'Weights cannot be negative.' })).min(1).max(30).optional(),
   ranking: Ranking.optional(),
   /**

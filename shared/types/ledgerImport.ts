@@ -49,6 +49,7 @@ export const IMPORT_PROBLEM_CODES = [
   'row-too-short',
   'name-empty',
   'name-too-long',
+  'name-control-character',
   'name-duplicate',
   // the cells
   'score-missing',
@@ -97,6 +98,8 @@ export interface ImportColumn {
   header: string
   letter: string
   criterionId: string | null
+  /** A verdict column of our own CSV export (Status, Reason …): read past, never saved. */
+  ignored?: true
 }
 
 /** What the upload route answers to `mode=preview` (200); the problems are also the body's data on a 422. */

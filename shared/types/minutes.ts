@@ -136,7 +136,14 @@ export interface MinutesContent {
   participants: MinutesParticipant[]
   stakeholderNamesWithheld: boolean
   anonymityNote: string
-  ledger: { version: number, hash: string, createdAt: string, note: string }
+  ledger: {
+    version: number
+    hash: string
+    createdAt: string
+    note: string
+    /** The uploaded file this version was read from (kept in the room's attachments); null when typed in. */
+    source: { filename: string, size: number, sha256: string } | null
+  }
   criteria: MinutesCriterion[]
   alternatives: MinutesAlternative[]
   counts: Record<AlternativeStatus, number>

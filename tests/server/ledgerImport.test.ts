@@ -1,10 +1,12 @@
 import { createHash } from 'node:crypto'
 import { readFileSync } from 'node:fs'
 import { join } from 'node:path'
+import { io as connect, type Socket } from 'socket.io-client'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { MAX_ALTERNATIVES } from '../../shared/schemas/ledger'
 import { ROOM_ROLES } from '../../shared/roles'
 import { MAX_UPLOAD_BYTES } from '../../shared/types/ledgerImport'
+import type { Ack, ClientToServerEvents, JoinedRoom, ServerToClientEvents } from '../../shared/types/realtime'
 import { Client, newPerson } from '../support/client'
 import { closeTestDb, count, testDb } from '../support/db'
 import { MALFORMED_FILES, generatedCsv, oversizedCsv } from '../fixtures/uploads/expected'
@@ -140,9 +142,22 @@ describe('uploading alternatives: a clean file', () => {
     expect(preview.body.preview.map(({ name, scores }: { name: string, scores: unknown }) => ({ name, scores }))).toEqual(KELDERWICK_ALTERNATIVES)
     expect(await written(roomId)).toEqual(before)
 
-    const confirm = await send(facilitator, roomId, 'kelderwick.csv', bytes, 'confirm', 1)
-    expect(confirm.status).toBe(201)
-    expect(confirm.body.version).toMatchObject({ number: 2, note: 'Uploaded kelderwick.csv' })
+    // A page of the room that is open meanwhile hears of the new version (and reloads its table).
+    const socket: Socket<ServerToClientEvents, ClientToServerEvents> = connect(baseUrl, { extraHeaders: { cookie: facilitator.cookie }, transports: ['websocket'], reconnection: false, forceNew: true })
+    try {
+      const joined = await new Promise<Ack<JoinedRoom>>(resolve => socket.emit('room:join', { roomId }, resolve))
+      expect(joined.ok).toBe(true)
+      const heard = new Promise<{ roomId: string, version: number }>(resolve => socket.once('ledger:changed', resolve))
+
+      const confirm = await send(facilitator, roomId, 'kelderwick.csv', bytes, 'confirm', 1)
+      expect(confirm.status).toBe(201)
+      expect(confirm.body.version).toMatchObject({ number: 2, note: 'Uploaded kelderwick.csv' })
+      expect(await heard).toEqual({ roomId, version: 2 })
+    }
+    finally {
+      socket.disconnect()
+    }
+    const confirm = await facilitator.get(`/api/rooms/${roomId}/ledger`)
     expect(confirm.body.alternatives.map(({ name, scores }: { name: string, scores: unknown }) => ({ name, scores }))).toEqual(KELDERWICK_ALTERNATIVES)
     expect(confirm.body.analysis.counts.infeasible).toBe(1) // Managed realignment breaks the 12 ha limit
     expect(await written(roomId)).toEqual({ versions: before.versions + 1, attachments: before.attachments + 1, uploads: before.uploads + 1 })
@@ -153,6 +168,10 @@ describe('uploading alternatives: a clean file', () => {
     expect(Buffer.compare(stored.content, bytes)).toBe(0)
     const audit = await testDb().query('select actor_id, details from audit_log where room_id = $1 and action = \'ledger.uploaded\'', [roomId])
     expect(audit.rows[0]).toMatchObject({ actor_id: userId, details: { filename: 'kelderwick.csv', rows: 9, version: 2 } })
+    // The minutes cite the file the table was read from.
+    const minutes = await facilitator.get(`/api/rooms/${roomId}/minutes`)
+    expect(minutes.status).toBe(200)
+    expect(minutes.body.ledger).toMatchObject({ version: 2, source: { filename: 'kelderwick.csv', size: bytes.length, sha256: stored.sha256 } })
   })
 
   it('stores nothing for a workbook with the same table (the names keep their ids)', async () => {

@@ -27,6 +27,20 @@ describe('rooms', () => {
     expect(await count('rooms')).toBe(before)
   })
 
+  // PostgreSQL refuses U+0000 in text: before the schemas refused it, this was a 500.
+  it.each([
+    ['a NUL in the title', { title: 'Depot\u0000 replacement', question: 'Which depot site should we buy?' }, 'title', 'character 6 is U+0000'],
+    ['a line break in the title', { title: 'Depot\nreplacement', question: 'Which depot site should we buy?' }, 'title', 'must stay on one line'],
+    ['an escape in the question', { title: 'Depot replacement', question: 'Which \u001b[31mdepot?' }, 'question', 'cannot contain control characters'],
+  ])('refuses %s with the field and the character, writing nothing', async (_label, body, field, words) => {
+    const { client } = await newPerson(baseUrl, 'control')
+    const before = await count('rooms')
+    const answer = await client.post('/api/rooms', body)
+    expect(answer.status).toBe(400)
+    expect(answer.body.data.fieldErrors[field]).toContain(words)
+    expect(await count('rooms')).toBe(before)
+  })
+
   it.each([
     ['does not exist', '00000000-0000-4000-8000-000000000000'],
     ['is not a uuid', 'not-a-room'],

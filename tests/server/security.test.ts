@@ -58,3 +58,18 @@ describe('request limits', () => {
     expect(answer.status).toBe(413)
   })
 })
+
+describe('error answers', () => {
+  // Reason phrases as RFC 9110 §15 names them (Node's http.STATUS_CODES gives the same).
+  it('name the status in words that match its code, and keep the route\'s own message', async () => {
+    const notFound = await fetch(`${baseUrl()}/api/rooms/00000000-0000-4000-8000-000000000000/ledger`)
+    expect(notFound.status).toBe(401)
+    expect(await notFound.json()).toMatchObject({ statusCode: 401, statusMessage: 'Unauthorized' })
+    const badSignIn = await fetch(`${baseUrl()}/api/auth/sign-in`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: '{"email":"not an address"}' })
+    expect(badSignIn.status).toBe(400)
+    const body = await badSignIn.json() as { statusMessage: string, message: string }
+    expect(body.statusMessage).toBe('Bad Request')
+    expect(body.message).not.toBe('Bad Request')
+    expect(body.message.length).toBeGreaterThan(0)
+  })
+})

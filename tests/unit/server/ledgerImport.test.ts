@@ -6,7 +6,9 @@ import { describe, expect, it } from 'vitest'
 import { MAX_ALTERNATIVES } from '../../../shared/schemas/ledger'
 import type { Alternative, Criterion } from '../../../shared/types/decision'
 import { IMPORT_PROBLEM_CODES, MAX_UPLOAD_BYTES, type CsvDelimiter } from '../../../shared/types/ledgerImport'
-import { validateLedger } from '../../../shared/utils/ledger'
+import type { LedgerView } from '../../../shared/types/ledgerView'
+import { analyseLedger, validateLedger } from '../../../shared/utils/ledger'
+import { ledgerExportRows } from '../../../shared/utils/ledgerExport'
 import { MAX_IMPORT_PROBLEMS_KEPT, parseLedgerFile, readCellNumber, spreadsheetColumn } from '../../../server/utils/ledgerImport'
 import { GOOD_FILES, MALFORMED_FILES, generatedCsv, oversizedCsv } from '../../fixtures/uploads/expected'
 import { KELDERWICK_ALTERNATIVES, KELDERWICK_CRITERIA } from '../../fixtures/uploads/kelderwick'
@@ -335,5 +337,47 @@ describe('parseLedgerFile: laws', () => {
       expect(result.problemTotal).toBe(result.problems.length)
       if (result.problemTotal === 0) expect(validateLedger(KELDERWICK_CRITERIA, result.alternatives)).toEqual([])
     }), { numRuns: 300 })
+  })
+})
+
+describe('parseLedgerFile: our own CSV export uploads again', () => {
+  /** The export as the route writes it (export.csv.get.ts): BOM, every cell quoted, CRLF. */
+  function exported(criteria: Criterion[], alternatives: Alternative[]) {
+    const analysis = analyseLedger(criteria, alternatives)
+    const view: LedgerView = {
+      version: { number: 1, hash: 'x'.repeat(64), shortHash: 'xxxxxxxx', note: '', createdAt: new Date(0), attachmentId: null },
+      criteria,
+      alternatives,
+      analysis: { verdicts: analysis.alternatives, counts: analysis.counts, efficientIds: analysis.efficientIds, ideal: analysis.ideal, nadir: analysis.nadir },
+    }
+    return `\uFEFF${Papa.unparse(ledgerExportRows(view), { quotes: true })}\r\n`
+  }
+
+  it('reads the Kelderwick export back to the same alternatives, leaving out the verdict columns', async () => {
+    const alternatives = KELDERWICK_ALTERNATIVES.map((a, i) => ({ id: `a${i}`, ...a }))
+    const text = exported(KELDERWICK_CRITERIA, alternatives)
+    expect(text).toContain('"Status","Reason","Weighted sum can favour it"')
+    const result = await parseText(text)
+    expect(result.problems).toEqual([])
+    expect(withoutIds(result.alternatives)).toEqual(KELDERWICK_ALTERNATIVES)
+    const ignored = result.columns.filter(c => c.ignored)
+    expect(ignored.map(c => [c.letter, c.header])).toEqual([['G', 'Status'], ['H', 'Reason'], ['I', 'Weighted sum can favour it']])
+  })
+
+  it('gets back a name the export had to neutralise as a formula', async () => {
+    const alternatives = KELDERWICK_ALTERNATIVES.map((a, i) => ({ id: `a${i}`, ...a, name: i === 0 ? '=SUM(1,2) scheme' : a.name }))
+    const text = exported(KELDERWICK_CRITERIA, alternatives)
+    expect(text).toContain('"\'=SUM(1,2) scheme"')
+    const result = await parseText(text)
+    expect(result.problems).toEqual([])
+    expect(result.alternatives[0]!.name).toBe('=SUM(1,2) scheme')
+  })
+
+  it('still treats a criterion that happens to be called Status as a criterion', async () => {
+    const criteria: Criterion[] = [{ id: 'cost', name: 'Cost', unit: '£m', direction: 'min' }, { id: 'status', name: 'Status', unit: '', direction: 'max' }]
+    const result = await parseText('Name,Cost (£m),Status\nA,1,2\nB,2,3\n', criteria)
+    expect(result.problems).toEqual([])
+    expect(result.columns.map(c => c.criterionId)).toEqual([null, 'cost', 'status'])
+    expect(result.alternatives.map(a => a.scores)).toEqual([{ cost: 1, status: 2 }, { cost: 2, status: 3 }])
   })
 })

@@ -23,6 +23,7 @@ function poppler(command: string, pdf: Buffer, args: string[] = []): string {
 }
 
 const HASH = 'a3f1c2e4b5d6978812345678901234567890abcdefabcdefabcdefabcdef0123'
+const SOURCE_HASH = '0f1e2d3c4b5a69788796a5b4c3d2e1f00f1e2d3c4b5a69788796a5b4c3d2e1f0'
 
 export function sampleContent(overrides: Partial<MinutesContent> = {}): MinutesContent {
   return {
@@ -37,7 +38,7 @@ export function sampleContent(overrides: Partial<MinutesContent> = {}): MinutesC
     ],
     stakeholderNamesWithheld: true,
     anonymityNote: 'At least one weighing was anonymous.',
-    ledger: { version: 3, hash: HASH, createdAt: '2026-11-29T09:00:00.000Z', note: '' },
+    ledger: { version: 3, hash: HASH, createdAt: '2026-11-29T09:00:00.000Z', note: 'Uploaded schemes.csv', source: { filename: 'schemes.csv', size: 14_700, sha256: SOURCE_HASH } },
     criteria: [
       { id: 'cost', name: 'Cost', unit: '£k', direction: 'min', directionLabel: 'lower is better', lowest: null, highest: 60, limitsText: 'at most 60 £k', precision: null },
       { id: 'homes', name: 'Homes protected', unit: 'homes', direction: 'max', directionLabel: 'higher is better', lowest: null, highest: null, limitsText: 'none', precision: null },
@@ -93,6 +94,10 @@ describe('renderMinutesPdf', () => {
     expect(text).toMatch(/2 stakeholders \(names withheld\)/)
     expect(text).not.toContain('DRAFT')
     expect(text).toContain('responsibility stays with the people')
+    // The uploaded file the option table was read from, cited by name, size and SHA-256.
+    expect(text.replace(/\s+/g, ' ')).toContain(`Read from schemes.csv (14 kB), kept with the room; its SHA-256 ${SOURCE_HASH}`)
+    const typed = poppler('pdftotext', await renderMinutesPdf(sampleContent({ ledger: { version: 3, hash: HASH, createdAt: '2026-11-29T09:00:00.000Z', note: '', source: null } }), { draft: false }))
+    expect(typed).not.toContain('Read from')
   })
 
   it('embeds Nunito (subset) for Latin text, and marks a draft on its pages', async () => {

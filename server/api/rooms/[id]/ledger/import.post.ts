@@ -86,6 +86,8 @@ export default defineEventHandler(async (event) => {
       }, tx)
       return saved.version
     })
+    // Every open page of the room reloads its table, as after a save in the editor.
+    useRealtime()?.to(roomChannel(id)).emit('ledger:changed', { roomId: id, version: version.number })
     setResponseStatus(event, 201)
     return ledgerView(version)
   }
