@@ -60,6 +60,8 @@
  * get `a-` and 12 random hex digits.
  */
 import { randomBytes } from 'node:crypto'
+import { promisify } from 'node:util'
+import { inflateRaw } from 'node:zlib'
 import type * as ExcelJS from 'exceljs'
 // The self-contained build of exceljs, not its main entry: traced on Node 20, the main entry's
 // dependencies (get-intrinsic → async-function) reach .output without their `module-sync` files
@@ -322,8 +324,19 @@ export function readCellNumber(raw: string, decimalMark: '.' | ','): NumberReadi
 
 // ───────────────────────────── file type ─────────────────────────────
 
+interface ZipEntry {
+  name: string
+  /** 0 stored, 8 deflated; others are not used by spreadsheet programs. */
+  method: number
+  packedSize: number
+  /** What the central directory claims; checked against the real inflated length. */
+  declaredSize: number
+  localHeader: number
+}
+
 interface ZipDirectory {
   names: string[]
+  entries: ZipEntry[]
   unpacked: number
 }
 
@@ -335,6 +348,7 @@ function zipDirectory(bytes: Buffer): ZipDirectory | null {
     const count = bytes.readUInt16LE(at + 10)
     let offset = bytes.readUInt32LE(at + 16)
     const names: string[] = []
+    const entries: ZipEntry[] = []
     let unpacked = 0
     for (let k = 0; k < count; k++) {
       if (offset + 46 > bytes.length || bytes.readUInt32LE(offset) !== 0x02014b50) return null
@@ -342,14 +356,53 @@ function zipDirectory(bytes: Buffer): ZipDirectory | null {
       const nameLength = bytes.readUInt16LE(offset + 28)
       const skip = nameLength + bytes.readUInt16LE(offset + 30) + bytes.readUInt16LE(offset + 32)
       if (offset + 46 + nameLength > bytes.length) return null
-      names.push(bytes.toString('utf8', offset + 46, offset + 46 + nameLength))
+      const name = bytes.toString('utf8', offset + 46, offset + 46 + nameLength)
+      names.push(name)
+      entries.push({ name, method: bytes.readUInt16LE(offset + 10), packedSize: bytes.readUInt32LE(offset + 20), declaredSize: size, localHeader: bytes.readUInt32LE(offset + 42) })
       // 0xffffffff marks a ZIP64 entry (over 4 GB): count it as too large.
       unpacked += size === 0xffffffff ? Number.POSITIVE_INFINITY : size
       offset += 46 + skip
     }
-    return { names, unpacked }
+    return { names, entries, unpacked }
   }
   return null
+}
+
+const inflateRawAsync = promisify(inflateRaw)
+
+/**
+ * Whether a ZIP really unpacks to at most `limit` bytes, entry by entry, as its directory says. The
+ * sizes in a ZIP are only claims: a "zip bomb" can declare a few bytes for an entry that inflates
+ * to gigabytes, and the workbook reader would unpack it all. Here each entry is inflated with
+ * zlib's output cap (`maxOutputLength`), so no more than the limit is ever produced, and an entry
+ * whose real size differs from the claim marks the file as damaged.
+ */
+export async function zipUnpacksWithin(bytes: Buffer, limit: number): Promise<'ok' | 'too-large' | 'damaged'> {
+  const directory = zipDirectory(bytes)
+  if (!directory) return 'damaged'
+  let total = 0
+  for (const entry of directory.entries) {
+    const at = entry.localHeader
+    if (at + 30 > bytes.length || bytes.readUInt32LE(at) !== 0x04034b50) return 'damaged'
+    const start = at + 30 + bytes.readUInt16LE(at + 26) + bytes.readUInt16LE(at + 28)
+    if (start + entry.packedSize > bytes.length) return 'damaged'
+    const packed = bytes.subarray(start, start + entry.packedSize)
+    let size: number
+    if (entry.method === 0) size = packed.length
+    else if (entry.method === 8) {
+      try {
+        size = (await inflateRawAsync(packed, { maxOutputLength: Math.max(1, limit - total + 1) })).length
+      }
+      catch (error) {
+        return (error as NodeJS.ErrnoException).code === 'ERR_BUFFER_TOO_LARGE' ? 'too-large' : 'damaged'
+      }
+    }
+    else return 'damaged'
+    total += size
+    if (total > limit) return 'too-large'
+    if (size !== entry.declaredSize) return 'damaged'
+  }
+  return 'ok'
 }
 
 const SIGNATURES: ReadonlyArray<{ bytes: number[], what: string }> = [
@@ -362,6 +415,9 @@ const SIGNATURES: ReadonlyArray<{ bytes: number[], what: string }> = [
 ]
 
 const startsWith = (bytes: Buffer, prefix: readonly number[]) => prefix.every((b, i) => bytes[i] === b)
+
+const TOO_LARGE_UNPACKED = `This workbook unpacks to more than ${MAX_XLSX_UNPACKED_BYTES / 1024 / 1024} MB, which is more than a table of alternatives needs. Copy the table into a new workbook, or save it as CSV, and upload that.`
+const DAMAGED_WORKBOOK = 'This Excel workbook is damaged or incomplete. Open it in your spreadsheet program, save it again and upload the new file.'
 
 const SAVE_AS = 'Save the table as CSV (UTF-8) or as an Excel workbook (.xlsx) and upload that.'
 
@@ -399,13 +455,13 @@ function sniff(bytes: Buffer): Sniffed {
         kind: 'problem',
         code: looksLikeWorkbook ? 'xlsx-unreadable' : 'file-type-unsupported',
         detail: looksLikeWorkbook
-          ? 'This Excel workbook is damaged or incomplete. Open it in your spreadsheet program, save it again and upload the new file.'
+          ? DAMAGED_WORKBOOK
           : `This file is a damaged ZIP archive, not a table. ${SAVE_AS}`,
       }
     }
     if (directory.names.includes('xl/workbook.xml')) {
       if (directory.unpacked > MAX_XLSX_UNPACKED_BYTES) {
-        return { kind: 'problem', code: 'xlsx-unreadable', detail: `This workbook unpacks to more than ${MAX_XLSX_UNPACKED_BYTES / 1024 / 1024} MB, which is more than a table of alternatives needs. Copy the table into a new workbook, or save it as CSV, and upload that.` }
+        return { kind: 'problem', code: 'xlsx-unreadable', detail: TOO_LARGE_UNPACKED }
       }
       return { kind: 'xlsx' }
     }
@@ -721,6 +777,11 @@ export async function parseLedgerFile(file: LedgerImportFile, criteria: readonly
   if (sniffed.kind === 'xlsx') {
     result.format = 'xlsx'
     result.mediaType = XLSX_MEDIA_TYPE
+    const unpacks = await zipUnpacksWithin(bytes, MAX_XLSX_UNPACKED_BYTES)
+    if (unpacks !== 'ok') {
+      problems.add('xlsx-unreadable', unpacks === 'too-large' ? TOO_LARGE_UNPACKED : DAMAGED_WORKBOOK)
+      return finish()
+    }
     const sheetGrid = await xlsxGrid(bytes, problems)
     if (sheetGrid) result.sheet = sheetGrid.sheet
     grid = sheetGrid

@@ -1,5 +1,6 @@
 import { readFileSync } from 'node:fs'
 import { join } from 'node:path'
+import { deflateRawSync } from 'node:zlib'
 import fc from 'fast-check'
 import Papa from 'papaparse'
 import { describe, expect, it } from 'vitest'
@@ -9,7 +10,7 @@ import { IMPORT_PROBLEM_CODES, MAX_UPLOAD_BYTES, type CsvDelimiter } from '../..
 import type { LedgerView } from '../../../shared/types/ledgerView'
 import { analyseLedger, validateLedger } from '../../../shared/utils/ledger'
 import { ledgerExportRows } from '../../../shared/utils/ledgerExport'
-import { MAX_IMPORT_PROBLEMS_KEPT, parseLedgerFile, readCellNumber, spreadsheetColumn } from '../../../server/utils/ledgerImport'
+import { MAX_IMPORT_PROBLEMS_KEPT, MAX_XLSX_UNPACKED_BYTES, parseLedgerFile, readCellNumber, spreadsheetColumn, zipUnpacksWithin } from '../../../server/utils/ledgerImport'
 import { GOOD_FILES, MALFORMED_FILES, generatedCsv, oversizedCsv } from '../../fixtures/uploads/expected'
 import { KELDERWICK_ALTERNATIVES, KELDERWICK_CRITERIA } from '../../fixtures/uploads/kelderwick'
 
@@ -124,6 +125,69 @@ describe('parseLedgerFile: one problem per malformed file', () => {
     const directory = bytes.readUInt32LE(end + 16)
     bytes.writeUInt32LE(200 * 1024 * 1024, directory + 24)
     const result = await parseLedgerFile({ filename: 'bomb.xlsx', bytes }, KELDERWICK_CRITERIA, [])
+    expect(result.problems.map(p => p.code)).toEqual(['xlsx-unreadable'])
+    expect(result.problems[0]!.message).toMatch(/100 MB/)
+  })
+})
+
+describe('zip bombs: sizes are checked by inflating, not believed', () => {
+  /** A one-entry ZIP written by hand (APPNOTE 6.3.x layouts), whose directory claims `declared` bytes. */
+  function zipOf(name: string, content: Buffer, declared = content.length) {
+    const packed = deflateRawSync(content)
+    const nameBytes = Buffer.from(name)
+    const local = Buffer.alloc(30)
+    local.writeUInt32LE(0x04034b50, 0)
+    local.writeUInt16LE(20, 4)
+    local.writeUInt16LE(8, 8)
+    local.writeUInt32LE(packed.length, 18)
+    local.writeUInt32LE(declared, 22)
+    local.writeUInt16LE(nameBytes.length, 26)
+    const central = Buffer.alloc(46)
+    central.writeUInt32LE(0x02014b50, 0)
+    central.writeUInt16LE(20, 4)
+    central.writeUInt16LE(20, 6)
+    central.writeUInt16LE(8, 10)
+    central.writeUInt32LE(packed.length, 20)
+    central.writeUInt32LE(declared, 24)
+    central.writeUInt16LE(nameBytes.length, 28)
+    central.writeUInt32LE(0, 42)
+    const directoryAt = local.length + nameBytes.length + packed.length
+    const directorySize = central.length + nameBytes.length
+    const end = Buffer.alloc(22)
+    end.writeUInt32LE(0x06054b50, 0)
+    end.writeUInt16LE(1, 8)
+    end.writeUInt16LE(1, 10)
+    end.writeUInt32LE(directorySize, 12)
+    end.writeUInt32LE(directoryAt, 16)
+    return Buffer.concat([local, nameBytes, packed, central, nameBytes, end])
+  }
+
+  it('accepts an honest archive, and the real workbook fixture', async () => {
+    expect(await zipUnpacksWithin(zipOf('xl/workbook.xml', Buffer.from('<workbook/>')), 1024)).toBe('ok')
+    expect(await zipUnpacksWithin(fixture('kelderwick.xlsx'), MAX_XLSX_UNPACKED_BYTES)).toBe('ok')
+  })
+
+  it('stops inflating at the limit when an entry claims a few bytes and holds far more', async () => {
+    const bomb = zipOf('xl/workbook.xml', Buffer.alloc(4 * 1024 * 1024), 10)
+    expect(bomb.length).toBeLessThan(10_000) // a few kilobytes on the wire
+    expect(await zipUnpacksWithin(bomb, 1024 * 1024)).toBe('too-large')
+  })
+
+  it('calls an archive damaged when an entry is not the size its directory claims', async () => {
+    expect(await zipUnpacksWithin(zipOf('xl/workbook.xml', Buffer.from('<workbook/>'), 5), 1024)).toBe('damaged')
+    const workbook = Buffer.from(fixture('kelderwick.xlsx'))
+    const end = workbook.lastIndexOf(Buffer.from([0x50, 0x4b, 0x05, 0x06]))
+    const first = workbook.readUInt32LE(end + 16)
+    workbook.writeUInt32LE(workbook.readUInt32LE(first + 24) - 1, first + 24)
+    const result = await parseLedgerFile({ filename: 'lying.xlsx', bytes: workbook }, KELDERWICK_CRITERIA, [])
+    expect(result.problems.map(p => p.code)).toEqual(['xlsx-unreadable'])
+    expect(result.problems[0]!.message).toMatch(/damaged or incomplete/)
+  })
+
+  it('refuses, through the parser, a workbook part that claims 10 bytes and inflates past 100 MB', async () => {
+    const bomb = zipOf('xl/workbook.xml', Buffer.alloc(MAX_XLSX_UNPACKED_BYTES + 1024), 10)
+    expect(bomb.length).toBeLessThan(MAX_UPLOAD_BYTES)
+    const result = await parseLedgerFile({ filename: 'bomb.xlsx', bytes: bomb }, KELDERWICK_CRITERIA, [])
     expect(result.problems.map(p => p.code)).toEqual(['xlsx-unreadable'])
     expect(result.problems[0]!.message).toMatch(/100 MB/)
   })
