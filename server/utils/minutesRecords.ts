@@ -17,19 +17,22 @@ export interface MinutesRecordMatch {
   roomTitle: string
   /** When the minutes were signed (ISO 8601). */
   signedAt: string
+  /** Who signed them, as recorded here when they were signed (the secretary's display name then). */
+  signer: string
 }
 
 /**
  * The minutes record whose signed PDF has this SHA-256 (lower-case hexadecimal), or null.
- * Only the room's title and the signing time are returned: the public check page shows both, and
- * nothing else about the room.
+ * Only the room's title, the signing time and the signer's name are returned: the public check
+ * page shows them, and nothing else about the room. (The signer's name is printed in the minutes
+ * and in their signature already, so whoever holds the file knows it.)
  */
 export async function findMinutesRecordBySha256(sha256: string): Promise<MinutesRecordMatch | null> {
   if (!/^[0-9a-f]{64}$/.test(sha256)) return null
-  const [row] = await useDb().select({ roomTitle: rooms.title, signedAt: minutesRecords.signedAt })
+  const [row] = await useDb().select({ roomTitle: rooms.title, signedAt: minutesRecords.signedAt, signer: minutesRecords.signer })
     .from(minutesRecords).innerJoin(rooms, eq(rooms.id, minutesRecords.roomId))
     .where(eq(minutesRecords.sha256, sha256))
-  return row ? { roomTitle: row.roomTitle, signedAt: row.signedAt.toISOString() } : null
+  return row ? { roomTitle: row.roomTitle, signedAt: row.signedAt.toISOString(), signer: row.signer } : null
 }
 
 export function minutesRecordView(row: Omit<MinutesRecord, 'pdf'> & { bytes: number }): MinutesRecordView {

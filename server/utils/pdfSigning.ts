@@ -21,7 +21,7 @@ import { SignPdf } from '@signpdf/signpdf'
 import { P12Signer } from '@signpdf/signer-p12'
 import * as asn1js from 'asn1js'
 import { createError, getRequestHeader, readMultipartFormData, type H3Event } from 'h3'
-import { PDFDocument } from 'pdf-lib'
+import { PDFDocument, PDFHexString, PDFString, hasUtf16BOM, pdfDocEncodingDecode, utf16Decode } from 'pdf-lib'
 import { Certificate, ContentInfo, IssuerAndSerialNumber, SignedData, type SignerInfo } from 'pkijs'
 
 export interface SignatureDetails {
@@ -46,6 +46,12 @@ export interface PdfInspection {
   /** Why the file is not signed or the signature not valid, in words for the page. */
   reason?: string
   signer?: SignerIdentity
+  /**
+   * The signer's name as the signature dictionary gives it (/Name), decoded from the PDF text
+   * string (UTF-16BE with a byte-order mark, UTF-8 with one, or PDFDocEncoding) without control
+   * characters. Plain text for the page, never markup. Absent when the dictionary names no one.
+   */
+  signerName?: string
   /** ISO 8601; from the signed signingTime attribute, else the signature dictionary's /M. */
   signedAt?: string
   /** The signed range is the whole file except the signature itself. */
@@ -207,12 +213,92 @@ function findSignatures(text: string): SignatureSpot[] {
   return spots.sort((x, y) => (y.range[2] + y.range[3]) - (x.range[2] + x.range[3]) || y.at - x.at)
 }
 
-/** The signature dictionary's /M (PDF date: D:YYYYMMDDHHmmSSOHH'mm') as ISO 8601, when there is one near the byte range. */
-function dictionaryTime(text: string, at: number): string | undefined {
+/** The signature dictionary around the byte range: from its `obj` to its `endobj`. */
+function signatureDictionary(text: string, at: number): string {
   const start = Math.max(0, text.lastIndexOf(' obj', at))
   const end = text.indexOf('endobj', at)
-  const dictionary = text.slice(start, end === -1 ? at + 2000 : end)
-  const m = /\/M\s*\(D:(\d{4})(\d{2})?(\d{2})?(\d{2})?(\d{2})?(\d{2})?([Zz+-])?(\d{2})?'?(\d{2})?'?\)/.exec(dictionary)
+  return text.slice(start, end === -1 ? at + 20_000 : end)
+}
+
+/** Where the literal string opening at `open` (a "(") ends, just after its balancing ")"; -1 when it does not. */
+function literalEnd(text: string, open: number): number {
+  let depth = 0
+  for (let i = open; i < text.length; i++) {
+    const c = text[i]
+    if (c === '\\') i++
+    else if (c === '(') depth++
+    else if (c === ')' && --depth === 0) return i + 1
+  }
+  return -1
+}
+
+/** The longest text string the check reads from a signature dictionary (characters). */
+const LONGEST_DICTIONARY_TEXT = 4096
+
+/**
+ * A text string entry of the signature dictionary itself (`/Key (literal)` or `/Key <hex>`, not
+ * one of a dictionary nested in it such as /Prop_Build's), decoded: escapes as pdf-lib's
+ * PDFString reads them, then `decodedText`. Strings and nested dictionaries are stepped over while
+ * looking for the key, so a value that merely contains "/Name" is not taken for the key.
+ */
+function dictionaryText(dictionary: string, key: string): string | undefined {
+  let depth = 0
+  for (let i = 0; i < dictionary.length; i++) {
+    const c = dictionary[i]
+    if (c === '(') {
+      const end = literalEnd(dictionary, i)
+      if (end === -1) return undefined
+      i = end - 1
+    }
+    else if (c === '<' && dictionary[i + 1] === '<') {
+      depth++
+      i++
+    }
+    else if (c === '>' && dictionary[i + 1] === '>') {
+      if (--depth <= 0) return undefined
+      i++
+    }
+    else if (c === '<') {
+      const end = dictionary.indexOf('>', i)
+      if (end === -1) return undefined
+      i = end
+    }
+    else if (c === '/' && depth === 1 && dictionary.startsWith(key, i + 1) && /[\s()<>[\]{}/%]/.test(dictionary[i + 1 + key.length] ?? ' ')) {
+      let at = i + 1 + key.length
+      while (/\s/.test(dictionary[at] ?? '')) at++
+      if (dictionary[at] === '(') {
+        const end = literalEnd(dictionary, at)
+        if (end === -1 || end - at > LONGEST_DICTIONARY_TEXT * 4) return undefined
+        return decodedText(PDFString.of(dictionary.slice(at + 1, end - 1)).asBytes())
+      }
+      if (dictionary[at] === '<' && dictionary[at + 1] !== '<') {
+        const end = dictionary.indexOf('>', at)
+        if (end === -1 || end - at > LONGEST_DICTIONARY_TEXT * 4) return undefined
+        return decodedText(PDFHexString.of(dictionary.slice(at + 1, end).replace(/\s+/g, '')).asBytes())
+      }
+      return undefined
+    }
+  }
+  return undefined
+}
+
+/** A PDF text string's bytes as text (ISO 32000-2, 7.9.2.2): UTF-16BE or UTF-8 after their byte-order marks, else PDFDocEncoding. */
+function decodedText(bytes: Uint8Array): string {
+  if (hasUtf16BOM(bytes)) return utf16Decode(bytes)
+  if (bytes[0] === 0xEF && bytes[1] === 0xBB && bytes[2] === 0xBF) return new TextDecoder('utf-8').decode(bytes.subarray(3))
+  return pdfDocEncodingDecode(bytes)
+}
+
+/** The signature dictionary's /Name as plain text for the page: control characters dropped, spaces squeezed, 200 characters at most. */
+function dictionaryName(dictionary: string): string | undefined {
+  const name = dictionaryText(dictionary, 'Name')?.replace(/\p{Cc}+/gu, ' ').replace(/\s+/g, ' ').trim().slice(0, 200)
+  return name || undefined
+}
+
+/** The signature dictionary's /M (PDF date: D:YYYYMMDDHHmmSSOHH'mm') as ISO 8601, when it has one. */
+function dictionaryTime(dictionary: string): string | undefined {
+  const value = dictionaryText(dictionary, 'M')
+  const m = value === undefined ? null : /^D:(\d{4})(\d{2})?(\d{2})?(\d{2})?(\d{2})?(\d{2})?([Zz+-])?(\d{2})?'?(\d{2})?'?$/.exec(value.trim())
   if (!m) return undefined
   const [, year, month = '01', day = '01', hour = '00', minute = '00', second = '00', sign = 'Z', offsetHours = '00', offsetMinutes = '00'] = m
   const zone = sign === 'Z' || sign === 'z' ? 'Z' : `${sign}${offsetHours}:${offsetMinutes}`
@@ -326,12 +412,15 @@ export async function inspectSignedPdf(pdf: Buffer): Promise<PdfInspection> {
     return fail(`The signature itself is damaged (${(error as Error).message}): the file was changed after signing.`)
   }
   result.signer = identityOf(cert)
+  const dictionary = signatureDictionary(text, spot.at)
+  const signerName = dictionaryName(dictionary)
+  if (signerName) result.signerName = signerName
   const certDer = new Uint8Array(cert.toSchema().toBER())
   result.trustedByThisServer = await issuedByThisServer(certDer)
 
   const signingTime = attributeValue(signerInfo, OID.signingTime) as asn1js.UTCTime | asn1js.GeneralizedTime | undefined
   const signedAt = signingTime && 'toDate' in signingTime ? signingTime.toDate() : undefined
-  result.signedAt = signedAt && !Number.isNaN(signedAt.getTime()) ? signedAt.toISOString() : dictionaryTime(text, spot.at)
+  result.signedAt = signedAt && !Number.isNaN(signedAt.getTime()) ? signedAt.toISOString() : dictionaryTime(dictionary)
 
   const digestName = DIGESTS[signerInfo.digestAlgorithm.algorithmId]
   if (!digestName) return fail(`The signature uses a digest this server does not check (${signerInfo.digestAlgorithm.algorithmId}).`)

@@ -44,6 +44,9 @@ test('signed minutes are valid; the same file with one byte changed is not', asy
   await expect(verdict).toHaveAttribute('data-verdict', 'valid')
   // Keyboard and screen-reader users land on the verdict.
   await expect(title).toBeFocused()
+  // Who signed (the name in the signature), beside the certificate it was signed with.
+  await expect(page.getByTestId('check-details')).toContainText('Signed by')
+  await expect(page.getByTestId('check-signer-name')).toHaveText('Harbour Secretary')
   await expect(page.getByTestId('check-signer')).toContainText(signerName)
   await expect(page.getByTestId('check-signed-at')).toHaveAttribute('datetime', /^\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\.000Z$/)
   await expect(page.getByTestId('check-coverage')).toHaveText('Yes: the signature covers every byte of the file.')
@@ -57,8 +60,21 @@ test('signed minutes are valid; the same file with one byte changed is not', asy
   await expect(page.getByTestId('verdict-reason')).toContainText('Digest mismatch')
   // What a changed file claims about its signer is shown as a claim, with no word on trust.
   await expect(page.getByTestId('check-details')).toContainText('Certificate named in the signature')
+  await expect(page.getByTestId('check-details')).toContainText('Signer named in the signature')
+  await expect(page.getByTestId('check-details')).not.toContainText('Signed by')
+  await expect(page.getByTestId('check-signer-name')).toHaveText('Harbour Secretary')
   await expect(page.getByTestId('check-trust')).toHaveCount(0)
   await expect(page.getByTestId('check-sha256')).toHaveText(createHash('sha256').update(tampered).digest('hex'))
+})
+
+test('the signer\'s name is shown as text, whatever it holds', async ({ page }) => {
+  const name = 'Siân <b>Ó Briain</b> <img src=x> 書記'
+  const minutes = await signPdf(unsigned, { signerName: name, reason: 'Minutes of the harbour room', location: 'Counterpoise', contactInfo: '' })
+  await openCheckPage(page)
+  await choose(page, 'named-minutes.pdf', minutes)
+  await expect(page.getByTestId('verdict-title')).toHaveText('Valid signature')
+  await expect(page.getByTestId('check-signer-name')).toHaveText(name)
+  await expect(page.getByTestId('check-details').locator('b, img')).toHaveCount(0)
 })
 
 test('a PDF without signature and a picture get their own verdicts', async ({ page }) => {
@@ -68,6 +84,7 @@ test('a PDF without signature and a picture get their own verdicts', async ({ pa
   await choose(page, 'draft.pdf', unsigned)
   await expect(title).toHaveText('No signature found')
   await expect(page.getByTestId('check-signer')).toHaveCount(0)
+  await expect(page.getByTestId('check-signer-name')).toHaveCount(0)
 
   await choose(page, 'photo-of-minutes.pdf', PNG_BYTES, 'image/png')
   await expect(title).toHaveText('Not a PDF')

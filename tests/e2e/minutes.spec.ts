@@ -1,4 +1,7 @@
-import { mkdirSync } from 'node:fs'
+import { spawnSync } from 'node:child_process'
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import { join } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { request as playwrightRequest } from '@playwright/test'
 import { analyseLedger } from '../../shared/utils/ledger'
@@ -10,7 +13,9 @@ import { expect, test, uniqueEmail } from './fixtures'
  * The secretary's minutes page in Chromium: the preview, signing (with its confirmation), sending,
  * and the signed file accepted by the public check page. The weighing, the vote and the decision
  * are written straight into the database (their own specs drive those screens). The preview's
- * first screen is kept as docs/screenshots/minutes.png. Data: the invented Kelderwick demo.
+ * first screen is kept as docs/screenshots/minutes.png and the signed PDF's first page, drawn by
+ * poppler's pdftoppm, as docs/screenshots/minutes-pdf.png (both on every run, in the desktop
+ * project, as tests/e2e/screenshots.spec.ts takes the others). Data: the invented Kelderwick demo.
  */
 const DIR = fileURLToPath(new URL('../../docs/screenshots/', import.meta.url))
 const still = { animations: 'disabled', caret: 'hide' } as const
@@ -96,4 +101,38 @@ test('the secretary previews, signs and sends the minutes; the check page accept
   await page.getByTestId('check-input').setInputFiles({ name: 'minutes.pdf', mimeType: 'application/pdf', buffer: signed })
   await expect(page.getByTestId('verdict-title')).toHaveText('Valid signature')
   await expect(page.getByTestId('check-record')).toContainText('Yes: the minutes of Kelderwick sea-front defences')
+  // Who signed: the name in the signature, and the signer this server recorded.
+  await expect(page.getByTestId('check-signer-name')).toHaveText('Jem Carrow')
+  await expect(page.getByTestId('check-record-signer')).toHaveText('Jem Carrow')
+
+  // The signed PDF's first page, as poppler draws it, for the README beside the preview.
+  const work = mkdtempSync(join(tmpdir(), 'counterpoise-minutes-e2e-'))
+  try {
+    const file = join(work, 'signed.pdf')
+    writeFileSync(file, signed)
+    const target = `${DIR}minutes-pdf.png`
+    rmSync(target, { force: true })
+    poppler('pdftoppm', ['-png', '-r', '80', '-f', '1', '-l', '1', '-singlefile', file, target.replace(/\.png$/, '')])
+    // The picture is page 1 at 80 dpi: its size in pixels is the page size pdfinfo gives in points (1/72 in) × 80/72.
+    const size = /Page\s+1 size:\s+([\d.]+) x ([\d.]+) pts/.exec(poppler('pdfinfo', ['-f', '1', '-l', '1', file]))
+    expect(size, 'pdfinfo gives the page size').not.toBeNull()
+    const png = readFileSync(target)
+    expect(png.subarray(0, 8).toString('hex')).toBe('89504e470d0a1a0a')
+    expect(Math.abs(png.readUInt32BE(16) - Number(size![1]) * 80 / 72)).toBeLessThanOrEqual(1)
+    expect(Math.abs(png.readUInt32BE(20) - Number(size![2]) * 80 / 72)).toBeLessThanOrEqual(1)
+    // …and it is the minutes' first page: poppler reads the room's title there.
+    expect(poppler('pdftotext', ['-f', '1', '-l', '1', file, '-'])).toContain('Kelderwick sea-front defences')
+  }
+  finally {
+    rmSync(work, { recursive: true, force: true })
+  }
 })
+
+/** A poppler-utils command's output; poppler-utils is installed by the test script. */
+function poppler(command: string, args: string[]): string {
+  const run = spawnSync(command, args, { encoding: 'utf8' })
+  if ((run.error as NodeJS.ErrnoException | undefined)?.code === 'ENOENT') throw new Error(`${command} is missing: apt-get install -y poppler-utils`)
+  if (run.error) throw run.error
+  expect(run.status, `${command}: ${run.stderr}`).toBe(0)
+  return run.stdout
+}

@@ -38,7 +38,7 @@ beforeAll(async () => {
 }, 60_000)
 
 describe('checking minutes (no sign-in)', () => {
-  it('a signed file: 200, valid, whole file, this server\'s certificate, its SHA-256, no record', async () => {
+  it('a signed file: 200, valid, signed by the name in the signature, whole file, this server\'s certificate, its SHA-256, no record', async () => {
     const answer = await check(signed, 'Minutes — check room.pdf')
     expect(answer.status).toBe(200)
     expect(answer.body).toMatchObject({
@@ -49,6 +49,8 @@ describe('checking minutes (no sign-in)', () => {
       coversWholeFile: true,
       trustedByThisServer: true,
       signer: { commonName: expect.any(String), serial: expect.stringMatching(/^[0-9A-F]+$/) },
+      // Who signed, from the signature dictionary's /Name (the certificate names the server's signer).
+      signerName: 'Check Secretary',
       sha256: createHash('sha256').update(signed).digest('hex'),
       // Nothing was recorded for this freshly signed file, whatever the records table holds.
       record: null,
@@ -57,10 +59,19 @@ describe('checking minutes (no sign-in)', () => {
     expect(answer.body.reason).toBeUndefined()
   })
 
+  it('a name outside ASCII (written as UTF-16BE) and with markup comes back as the same plain text', async () => {
+    const name = 'Siân <em>Ó Briain</em> 書記'
+    const file = await signPdf(unsigned, { signerName: name, reason: 'Minutes of the check room', location: 'Counterpoise', contactInfo: '' })
+    expect(file.toString('latin1')).toContain('/Name (\\376\\377')
+    const answer = await check(file)
+    expect(answer.body).toMatchObject({ valid: true, signerName: name })
+  })
+
   it('the same file with one signed byte changed: 200, signed but not valid, with the reason', async () => {
     const answer = await check(withFlippedByte(signed, offsetInSignedStream(signed)))
     expect(answer.status).toBe(200)
-    expect(answer.body).toMatchObject({ signed: true, valid: false })
+    // The name is still read, as what the signature claims.
+    expect(answer.body).toMatchObject({ signed: true, valid: false, signerName: 'Check Secretary' })
     expect(answer.body.reason).toMatch(/Digest mismatch/)
   })
 
@@ -68,6 +79,7 @@ describe('checking minutes (no sign-in)', () => {
     const answer = await check(unsigned)
     expect(answer.status).toBe(200)
     expect(answer.body).toMatchObject({ signed: false, valid: false, record: null })
+    expect(answer.body).not.toHaveProperty('signerName')
     expect(answer.body.reason).toMatch(/No signature found/)
   })
 

@@ -9,6 +9,7 @@ import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { pdflibAddPlaceholder } from '@signpdf/placeholder-pdf-lib'
 import { SignPdf, Signer } from '@signpdf/signpdf'
+import { P12Signer } from '@signpdf/signer-p12'
 import { PDFDict, PDFDocument, PDFHexString, PDFName, PDFString } from 'pdf-lib'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 // @ts-expect-error plain ESM script without types
@@ -170,6 +171,8 @@ describe('signPdf, checked by pdfsig (poppler)', () => {
     const when = signature.lookup(PDFName.of('M'), PDFString).decodeDate()
     const inspection = await inspectSignedPdf(signed)
     expect(when.toISOString()).toBe(inspection.signedAt)
+    // The check reads the same name as pdf-lib's document parser does (UTF-16BE here: "ë", "Å").
+    expect(inspection.signerName).toBe(text('Name'))
   })
 
   it('signs again with a new signer each time (a P12Signer signs once)', async () => {
@@ -224,7 +227,7 @@ describe('inspectSignedPdf', () => {
     expect(printed).toMatch(/d\.issuerAndSerialNumber/)
     expect(pdfsig(pdf, 'openssl.pdf')).toContain('Signature is Valid.')
     const inspection = await inspectSignedPdf(pdf)
-    expect(inspection).toMatchObject({ signed: true, valid: true, coversWholeFile: true, trustedByThisServer: true, signer: { commonName: 'Counterpoise development signer' } })
+    expect(inspection).toMatchObject({ signed: true, valid: true, coversWholeFile: true, trustedByThisServer: true, signer: { commonName: 'Counterpoise development signer' }, signerName: 'OpenSSL' })
     expect(inspection.signedAt).toEqual(expect.any(String))
     const changed = withFlippedByte(pdf, offsetInSignedStream(pdf))
     expect(pdfsig(changed, 'openssl-changed.pdf')).toContain('Digest Mismatch')
@@ -325,6 +328,55 @@ describe('inspectSignedPdf', () => {
     const extended = Buffer.concat([signed, Buffer.from('\n% added later\n')])
     expect(pdfsig(extended, 'extended.pdf')).toContain('Not total document signed')
     expect((await inspectSignedPdf(extended)).coversWholeFile).toBe(false)
+  })
+
+  /**
+   * The sample minutes signed with the development key, its signature dictionary naming the signer
+   * `name` (a literal string's contents), and optionally `edit`ed as text before signing (so the
+   * signature stays valid); an edit keeps the length, so the cross-reference table stays right.
+   */
+  async function signedWithDictionary(name: string, edit: (text: string) => string = t => t) {
+    const doc = await PDFDocument.load(unsigned)
+    pdflibAddPlaceholder({ pdfDoc: doc, name, reason: 'Names', location: 'Tests', contactInfo: 'none', signatureLength: 8192, appName: 'Counterpoise' })
+    const saved = Buffer.from(await doc.save({ useObjectStreams: false })).toString('latin1')
+    const edited = edit(saved)
+    expect(edited.length).toBe(saved.length)
+    const pdf = await new SignPdf().sign(Buffer.from(edited, 'latin1'), new P12Signer(readFileSync(signing.p12Path), { passphrase: signing.passphrase }))
+    const inspection = await inspectSignedPdf(pdf)
+    expect(inspection.valid, inspection.reason).toBe(true)
+    return inspection
+  }
+
+  it.each([
+    // PDFDocEncoding (ISO 32000-1, Annex D.2, recalled from memory and as pdf-lib's table has it): 0xE9 é, 0xFA ú, 0x80 bullet, 0xA0 euro sign.
+    ['PDFDocEncoding', 'Jos\\351 \\200 \\240 5', 'José • € 5'],
+    // UTF-16BE with its byte-order mark, as our signer writes non-ASCII names: "Zoë" is FE FF 00 5A 00 6F 00 EB.
+    ['UTF-16BE', '\\376\\377\\000Z\\000o\\000\\353', 'Zoë'],
+    ['escaped brackets and backslash', 'A \\(b\\) \\\\ c', 'A (b) \\ c'],
+    ['balanced brackets left unescaped', 'Clerk (acting)', 'Clerk (acting)'],
+    ['markup, kept as text, and a control character, dropped', '<b>Ana</b>\\007 L\\372cia', '<b>Ana</b> Lúcia'],
+  ])('reads /Name written in %s', async (_how, literal, expected) => {
+    expect((await signedWithDictionary(literal)).signerName).toBe(expected)
+  })
+
+  const PLACEHOLDER_NAME = 'x'.repeat(60)
+
+  it('reads /Name written as a hexadecimal string (UTF-16BE, outside the Basic Multilingual Plane too)', async () => {
+    const name = 'Łucja 書記 𝄞'
+    // pdf-lib writes the hexadecimal UTF-16BE form with its byte-order mark; the spaces after it are ignored (ISO 32000-1, 7.3.4.3).
+    const hex = PDFHexString.fromText(name).toString()
+    const inspection = await signedWithDictionary(PLACEHOLDER_NAME, text => text.replace(`/Name (${PLACEHOLDER_NAME})`, `/Name ${hex.slice(0, -1).padEnd(PLACEHOLDER_NAME.length + 1)}>`))
+    expect(inspection.signerName).toBe(name)
+  })
+
+  it('without its own /Name the signature names no one (a /Name inside /Prop_Build is not it)', async () => {
+    const inspection = await signedWithDictionary(PLACEHOLDER_NAME, (text) => {
+      expect(text).toMatch(/\/Prop_Build[\s\S]*\/Name \/Counterpoise/)
+      // The names inside /Prop_Build become text strings, which the check must not take for the signer's.
+      return text.replace(`/Name (${PLACEHOLDER_NAME})`, ' '.repeat(`/Name (${PLACEHOLDER_NAME})`.length))
+        .replace(/\/Name \/\S+/g, name => `/Name (${'n'.repeat(name.length - 8)})`)
+    })
+    expect(inspection.signerName).toBeUndefined()
   })
 
   it('an unsigned PDF: no signature found (pdfsig agrees)', async () => {
