@@ -84,6 +84,13 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   socket.on('room:state', (next) => {
     if (next.roomId === toValue(roomId)) state.value = next
   })
+  // Removed from the room, or given another role: join again, so the server sends what the new
+  // role may see (a removed member's join is refused with a message).
+  socket.on('room:membership', (body) => {
+    if (body.roomId !== toValue(roomId)) return
+    names.value = null
+    join()
+  })
   socket.on('weighing:names', (list) => {
     if (list.weighingId === state.value?.weighing?.id) names.value = list.names
   })

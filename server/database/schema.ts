@@ -163,6 +163,8 @@ export const submissions = pgTable('submissions', {
   aspirations: jsonb('aspirations').$type<number[] | null>(),
   /** The phone's key for this submission: a resend after a reconnect is recognised, not stored twice. */
   idempotencyKey: text('idempotency_key').notNull(),
+  /** Keys of the submissions this one replaced (most recent last, at most KEPT_EARLIER_KEYS): a late resend of one changes nothing. */
+  earlierKeys: text('earlier_keys').array().notNull().default(sql`'{}'::text[]`),
   revision: integer('revision').notNull().default(1),
   submittedAt: timestamp('submitted_at', { withTimezone: true }).notNull().defaultNow(),
 }, t => [unique('submissions_weighing_user').on(t.weighingId, t.userId)])
@@ -190,6 +192,8 @@ export const ballots = pgTable('ballots', {
   /** Alternative id → 'approve' | 'object' | 'abstain', for every alternative on the ballot. */
   choices: jsonb('choices').$type<Record<string, 'approve' | 'object' | 'abstain'>>().notNull(),
   idempotencyKey: text('idempotency_key').notNull(),
+  /** Keys of the ballots this one replaced (as for submissions): a late resend of one changes nothing. */
+  earlierKeys: text('earlier_keys').array().notNull().default(sql`'{}'::text[]`),
   revision: integer('revision').notNull().default(1),
   castAt: timestamp('cast_at', { withTimezone: true }).notNull().defaultNow(),
 }, t => [unique('ballots_vote_user').on(t.voteId, t.userId)])

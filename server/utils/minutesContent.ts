@@ -17,7 +17,7 @@ import type { Db, Tx } from './db'
 export const MINUTES_CAUTION = 'Counterpoise supports the group’s deliberation; it does not decide. Responsibility for the decision stays with the people who took it and with the rules that govern them locally.'
 
 const ANONYMITY_NOTE_NAMED = 'Every weighing showed names, so all participants are named.'
-const ANONYMITY_NOTE_WITHHELD = 'At least one weighing was anonymous, so stakeholders are counted but not named here, and anonymous rounds number their weightings (Stakeholder 1, 2, …) in the order they were submitted.'
+const ANONYMITY_NOTE_WITHHELD = 'At least one weighing was anonymous, so stakeholders are counted but not named here, and anonymous rounds number their weightings (Stakeholder 1, 2, …) in an order that does not follow who submitted first.'
 
 const percentages = (weights: readonly number[]) => largestRemainderPercentages(weights)
 

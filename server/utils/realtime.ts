@@ -66,7 +66,28 @@ async function sendRoomState(roomId: string) {
   }
 }
 
-/** End every socket of a user (sign-out, role change): sessions are checked only at the handshake. */
+/** End every socket of a user (sign-out, password change): sessions are checked only at the handshake. */
 export function disconnectUser(userId: string) {
   io?.in(userChannel(userId)).disconnectSockets(true)
+}
+
+/**
+ * After a member's removal or role change has committed: the channels a socket joined at
+ * `room:join` were chosen for the old role, so every socket of that user (in every process, through
+ * the adapter) leaves the room's channels at once, and is told to join again — a join checks the
+ * membership afresh, so a removed member is refused and a new facilitator gets the names. Then the
+ * room hears the new counts of who may weigh and vote. Never throws: the change is already stored.
+ */
+export async function membershipChanged(roomId: string, userId: string) {
+  if (!io) return
+  try {
+    // What io.in(…).socketsLeave(…) does, awaited: the PostgreSQL adapter resolves once its
+    // "leave" message is out, so the other processes hear it before the broadcasts below.
+    await io.of('/').adapter.delSockets({ rooms: new Set([userChannel(userId)]), except: new Set() }, [roomChannel(roomId), facilitatorChannel(roomId)])
+    io.to(userChannel(userId)).emit('room:membership', { roomId })
+  }
+  catch (error) {
+    console.error('[realtime] membership change not sent:', (error as Error).message)
+  }
+  await Promise.all([broadcastRoomState(roomId), broadcastVoteState(roomId)])
 }

@@ -49,6 +49,15 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
       const { role } = await requireRoomMember(roomId, socket.data.userId)
       await socket.join(roomChannel(roomId))
       if (roleAllows(role, 'weighing:run')) await socket.join(facilitatorChannel(roomId))
+      // A removal or role change that committed while this join was under way sent its "leave"
+      // before the socket joined: look again, so channels chosen for a stale role are not kept.
+      const now = await requireRoomMember(roomId, socket.data.userId).catch((error: unknown) => ({ error }))
+      if ('error' in now || now.role !== role) {
+        await socket.leave(roomChannel(roomId))
+        await socket.leave(facilitatorChannel(roomId))
+        if ('error' in now) throw now.error
+        throw createError({ statusCode: 409, message: 'Your role in this room changed while joining; join again.' })
+      }
       socket.data.rooms.set(roomId, role)
       const state = await liveState(roomId)
       const vote = await currentVote(roomId, { withBallots: roleAllows(role, 'weighing:run') })

@@ -175,7 +175,8 @@ export async function closeVote(roomId: string, voteId: string, userId: string):
 /**
  * Store a stakeholder's ballot in an open vote, replacing their earlier one. Every alternative on
  * the ballot needs a choice, and only those (400 naming what is missing or unknown). Idempotent:
- * the same key returns the stored ballot and changes nothing. Refused once the vote is closed
+ * the same key returns the stored ballot and changes nothing, and the key of a ballot already
+ * replaced returns the later one marked `superseded`. Refused once the vote is closed
  * (409). The caller checks the role; this checks the vote belongs to the room.
  */
 export async function castBallot(userId: string, body: CastBallotBody): Promise<{ ballot: MyBallot, changed: boolean }> {
@@ -183,6 +184,8 @@ export async function castBallot(userId: string, body: CastBallotBody): Promise<
     const { vote } = await lockedVote(tx, body.roomId, body.voteId)
     const [existing] = await tx.select().from(ballots).where(and(eq(ballots.voteId, vote.id), eq(ballots.userId, userId)))
     if (existing && existing.idempotencyKey === body.idempotencyKey) return { ballot: myBallotOf(existing), changed: false }
+    // A late resend of a ballot a later one already replaced: answer with the later one, store nothing.
+    if (existing?.earlierKeys.includes(body.idempotencyKey)) return { ballot: { ...myBallotOf(existing), superseded: true }, changed: false }
     if (vote.status !== 'open') throw createError({ statusCode: 409, message: 'The vote is closed; your ballot was not recorded.' })
     const missing = vote.shortlist.filter(id => !(id in body.choices))
     const unknown = Object.keys(body.choices).filter(id => !vote.shortlist.includes(id))
@@ -196,7 +199,7 @@ export async function castBallot(userId: string, body: CastBallotBody): Promise<
     const choices = Object.fromEntries(vote.shortlist.map(id => [id, body.choices[id]!]))
     const values = { choices, idempotencyKey: body.idempotencyKey, castAt: new Date() }
     const [row] = existing
-      ? await tx.update(ballots).set({ ...values, revision: existing.revision + 1 }).where(eq(ballots.id, existing.id)).returning()
+      ? await tx.update(ballots).set({ ...values, revision: existing.revision + 1, earlierKeys: keptKeys(existing) }).where(eq(ballots.id, existing.id)).returning()
       : await tx.insert(ballots).values({ ...values, voteId: vote.id, userId }).returning()
     await audit({ actorId: userId, roomId: body.roomId, action: 'ballot.cast', details: { vote: vote.id, revision: row!.revision } }, tx)
     return { ballot: myBallotOf(row!), changed: true }

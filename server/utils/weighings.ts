@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto'
 import { and, asc, count, desc, eq, sql } from 'drizzle-orm'
 import { ledgerVersions, roomMembers, rooms, submissions, users, weighings, type LedgerVersion, type Submission, type Weighing } from '../database/schema'
 import type { OpenWeighingBody, SubmitWeightsBody } from '../../shared/schemas/weighing'
@@ -160,10 +161,17 @@ export function weightsOfRanking(ranking: (string | string[])[], criterionIds: r
   return weightsFromRanking(criterionIds.map(id => rankOf.get(id)!))
 }
 
+/** How many replaced idempotency keys a submission or ballot remembers (a resend older than that is not expected). */
+export const KEPT_EARLIER_KEYS = 100
+
+/** The earlier keys after `row` is replaced: its own key joins them, the oldest drop off. */
+export const keptKeys = (row: { idempotencyKey: string, earlierKeys: string[] }) => [...row.earlierKeys, row.idempotencyKey].slice(-KEPT_EARLIER_KEYS)
+
 /**
  * Store a stakeholder's weights in an open weighing, replacing their earlier submission.
  * Idempotent: the same idempotency key returns the stored submission and changes nothing, so a
- * phone that resends after a reconnect is never counted twice. The weighing row is share-locked,
+ * phone that resends after a reconnect is never counted twice; the key of a submission already
+ * replaced returns the later one marked `superseded`, and changes nothing either. The weighing row is share-locked,
  * so a submission is either in before the weighing closes or refused. Acknowledged only after commit.
  */
 export async function submitWeights(userId: string, body: SubmitWeightsBody): Promise<{ submission: MySubmission, changed: boolean }> {
@@ -174,6 +182,9 @@ export async function submitWeights(userId: string, body: SubmitWeightsBody): Pr
     await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`submission:${weighing.id}:${userId}`}, 0))`)
     const [existing] = await tx.select().from(submissions).where(and(eq(submissions.weighingId, weighing.id), eq(submissions.userId, userId)))
     if (existing && existing.idempotencyKey === body.idempotencyKey) return { submission: mySubmissionOf(existing), changed: false }
+    // A resend of a submission that a later one already replaced (say, held up in a process that
+    // failed over) must not bring the older weights back: answer with the later one, store nothing.
+    if (existing?.earlierKeys.includes(body.idempotencyKey)) return { submission: { ...mySubmissionOf(existing), superseded: true }, changed: false }
     if (weighing.status !== 'open') throw createError({ statusCode: 409, message: `Weighing ${weighing.number} is closed; your weights were not recorded.` })
     if (weighing.closesAt && weighing.closesAt.getTime() <= Date.now()) throw createError({ statusCode: 409, message: `Weighing ${weighing.number}'s time is up; your weights were not recorded.` })
     const criterionIds = version.criteria.map(c => c.id)
@@ -202,11 +213,26 @@ export async function submitWeights(userId: string, body: SubmitWeightsBody): Pr
     }
     const values = { weights, ranking: body.ranking ?? null, aspirations: body.aspirations ?? null, idempotencyKey: body.idempotencyKey, submittedAt: new Date() }
     const [row] = existing
-      ? await tx.update(submissions).set({ ...values, revision: existing.revision + 1 }).where(eq(submissions.id, existing.id)).returning()
+      ? await tx.update(submissions).set({ ...values, revision: existing.revision + 1, earlierKeys: keptKeys(existing) }).where(eq(submissions.id, existing.id)).returning()
       : await tx.insert(submissions).values({ ...values, weighingId: weighing.id, userId }).returning()
     await audit({ actorId: userId, roomId: body.roomId, action: 'weights.submitted', details: { weighing: weighing.number, revision: row!.revision, style: body.aspirations ? 'aspirations' : body.ranking ? 'ranking' : 'sliders' } }, tx)
     return { submission: mySubmissionOf(row!), changed: true }
   })
+}
+
+/**
+ * The rows of an anonymous weighing in the order their "Stakeholder k" labels follow. Not the
+ * order of submission, which a facilitator who watched the names arrive could match to the labels:
+ * a shuffle keyed by SHA-256 of the weighing id and each submission's row id. That id is random,
+ * stays with the person's submission through every revision, and never leaves the server (unlike
+ * user ids, which the member list shows), so the order is the same on every call — console and
+ * minutes agree — yet cannot be recomputed from outside.
+ */
+export function anonymousOrder<T extends { id: string }>(weighingId: string, rows: readonly T[]): T[] {
+  const keyOf = (row: T) => createHash('sha256').update(`anonymous-order:${weighingId}:${row.id}`).digest('hex')
+  return rows.map(row => ({ row, key: keyOf(row) }))
+    .sort((a, b) => (a.key < b.key ? -1 : a.key > b.key ? 1 : 0))
+    .map(entry => entry.row)
 }
 
 /** Everything the room learns when a weighing is revealed. */
@@ -218,9 +244,10 @@ export async function weighingResults(roomId: string, weighingId: string) {
   if (!row) throw createError({ statusCode: 404, message: 'No such weighing in this room.' })
   const { weighing, version } = row
   if (weighing.status !== 'revealed') throw createError({ statusCode: 409, message: `Weighing ${weighing.number} has not been revealed yet.` })
-  const rows = await db.select({ weights: submissions.weights, aspirations: submissions.aspirations, name: users.displayName, submittedAt: submissions.submittedAt })
+  const stored = await db.select({ id: submissions.id, weights: submissions.weights, aspirations: submissions.aspirations, name: users.displayName, submittedAt: submissions.submittedAt })
     .from(submissions).innerJoin(users, eq(users.id, submissions.userId))
     .where(eq(submissions.weighingId, weighingId)).orderBy(asc(submissions.submittedAt))
+  const rows = weighing.showNames ? stored : anonymousOrder(weighingId, stored)
   const analysis = analysisOf(version)
   const names = new Map(version.alternatives.map(a => [a.id, a.name]))
   const byTargets = weighing.inputStyle === 'aspirations'

@@ -48,6 +48,11 @@ export interface MySubmission {
   idempotencyKey: string
   revision: number
   submittedAt: string
+  /**
+   * Only on the answer to a late resend whose key a later submission of the same person already
+   * replaced: nothing was stored, and the rest of this object is that later submission.
+   */
+  superseded?: true
 }
 
 /** Why the server refused a socket's handshake (`connect_error`'s `data.reason`). */
@@ -82,6 +87,8 @@ export interface ServerToClientEvents {
   'vote:state': (body: { roomId: string, vote: VoteView | null }) => void
   /** A resolution was recorded, edited, amended or frozen: fetch the list again. */
   'resolution:changed': (body: { roomId: string }) => void
+  /** The caller's membership or role in this room changed: the socket has left the room's channels; join again. */
+  'room:membership': (body: { roomId: string }) => void
   /** An event was refused (bad input, wrong role, too many events); nothing was changed. */
   'failure': (body: { event: string, status: number, message: string }) => void
 }

@@ -49,6 +49,11 @@ export interface MyBallot {
   idempotencyKey: string
   revision: number
   castAt: string
+  /**
+   * Only on the answer to a late resend whose key a later ballot of the same person already
+   * replaced: nothing was stored, and the rest of this object is that later ballot.
+   */
+  superseded?: true
 }
 
 /** The decision as recorded by the facilitator. Frozen once the secretary signs the minutes. */

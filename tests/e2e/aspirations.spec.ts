@@ -154,15 +154,19 @@ test('the console shows each stakeholder\'s targets with units and the group\'s 
   const results = page.getByTestId('weighing-results')
   await expect(results.getByRole('heading', { name: 'Results of weighing 1' })).toBeVisible()
   await expect(results).toContainText('· targets ·')
-  // Anonymous rows in submission order: Ada (20, 150) → Dunes; Bo (12, 120) → Wall; Cy (22, 160) → Dunes.
+  // Anonymous rows come in a keyed order, not that of submission, so each is found by its targets:
+  // Ada (20, 150) → Dunes; Bo (12, 120) → Wall; Cy (22, 160) → Dunes.
   const rows = results.getByTestId('weighting-row')
   await expect(rows).toHaveCount(3)
-  await expect(rows.nth(0).locator('td').nth(2)).toHaveText('at most 20.0 £m')
-  await expect(rows.nth(0).locator('td').nth(3)).toHaveText('at least 150 homes')
-  await expect(rows.nth(0).locator('td').nth(0)).toHaveAttribute('data-flag', 'unsupported')
-  await expect(rows.nth(0).locator('td').nth(0)).toContainText('no slider weighting picks this; these targets do')
-  await expect(rows.nth(1).locator('td').nth(0)).toHaveText('North Wall')
-  await expect(rows.nth(1).locator('td').nth(2)).toHaveText('at most 12.0 £m')
+  const adaRow = rows.filter({ hasText: 'at most 20.0 £m' })
+  await expect(adaRow).toHaveCount(1)
+  await expect(adaRow.locator('td').nth(2)).toHaveText('at most 20.0 £m')
+  await expect(adaRow.locator('td').nth(3)).toHaveText('at least 150 homes')
+  await expect(adaRow.locator('td').nth(0)).toHaveAttribute('data-flag', 'unsupported')
+  await expect(adaRow.locator('td').nth(0)).toContainText('no slider weighting picks this; these targets do')
+  const boRow = rows.filter({ hasText: 'at most 12.0 £m' })
+  await expect(boRow).toHaveCount(1)
+  await expect(boRow.locator('td').nth(0)).toHaveText('North Wall')
 
   const group = results.getByTestId('group-targets')
   await expect(group.getByTestId('group-favourite')).toHaveText('Dune Nourishment')

@@ -160,8 +160,10 @@ describe('minutes before a decision', () => {
     expect(JSON.stringify(body)).not.toContain('@test.counterpoise.example')
     expect(body.rounds).toHaveLength(1)
     expect(body.rounds[0].weightings.map((w: any) => w.label)).toEqual(['Stakeholder 1', 'Stakeholder 2'])
-    // Weights as whole percentages (largest remainder): 0.6/0.2/0.2 → 60/20/20.
-    expect(body.rounds[0].weightings[0].weightsPercent).toEqual([60, 20, 20])
+    // Weights as whole percentages (largest remainder): 0.6/0.2/0.2 → 60/20/20. The anonymous labels
+    // follow a keyed shuffle, not the order of submission: compare as a set.
+    expect(body.rounds[0].weightings.map((w: any) => w.weightsPercent)).toEqual(expect.arrayContaining([[60, 20, 20], [10, 80, 10]]))
+    expect(body.rounds[0].weightings).toHaveLength(2)
     expect(body.vote).toMatchObject({ cast: 2, eligible: 2 })
     expect(body.vote.tally).toEqual([
       { name: 'Broad plan', counts: { approve: 2, object: 0, abstain: 0 } },
@@ -256,11 +258,12 @@ describe('signing, checking and sending the minutes', () => {
     expect(text).not.toContain('DRAFT')
   })
 
-  it('the public check finds it valid and held here (room title and signing time only); a changed copy is not', async () => {
+  it('the public check finds it valid, signed by the secretary and held here (room title, signing time and signer only); a changed copy is not', async () => {
     const answer = await check(signed)
     expect(answer.status).toBe(200)
-    expect(answer.body).toMatchObject({ valid: true, sha256: record.sha256, record: { roomTitle: title, signedAt: record.signedAt } })
-    expect(Object.keys(answer.body.record).sort()).toEqual(['roomTitle', 'signedAt'])
+    // Who signed: the name in the signature dictionary (/Name), and the signer this server recorded.
+    expect(answer.body).toMatchObject({ valid: true, sha256: record.sha256, signerName: 'Test minutes-secretary', record: { roomTitle: title, signedAt: record.signedAt, signer: 'Test minutes-secretary' } })
+    expect(Object.keys(answer.body.record).sort()).toEqual(['roomTitle', 'signedAt', 'signer'])
     const changed = await check(withFlippedByte(signed, offsetInSignedStream(signed)))
     expect(changed.body).toMatchObject({ valid: false, record: null })
   })
@@ -315,13 +318,85 @@ describe('signing, checking and sending the minutes', () => {
     expect(audits.map(a => a.details)).toEqual([{ record: record.id, recipients: 5 }])
   })
 
-  it('exports the record for the archive: JSON with the signed file\'s SHA-256, and CSV tables', async () => {
+  let amendmentId = ''
+  let amendment: any
+  const AMENDED_RATIONALE = 'The consent for Worse plan was withdrawn on appeal.\nBroad plan reaches the most people for a cost inside the limit; the site survey stands.'
+
+  it('an amendment of the signed resolution is signed as a second record, whose PDF says which resolution it amends', async () => {
+    const recorded = await people.facilitator.post(`/api/rooms/${roomId}/resolutions`, { alternativeId: 'broad', rationale: AMENDED_RATIONALE, amends: resolutionId })
+    expect(recorded.status).toBe(201)
+    expect(recorded.body).toMatchObject({ amends: resolutionId, alternativeName: 'Broad plan' })
+    amendmentId = recorded.body.id
+
+    const answer = await people.secretary.post(`/api/rooms/${roomId}/minutes/sign`)
+    expect(answer.status).toBe(201)
+    amendment = answer.body
+    expect(amendment).toMatchObject({ resolutionId: amendmentId, signer: 'Test minutes-secretary' })
+    expect(amendment.id).not.toBe(record.id)
+    const { rows } = await testDb().query('select resolution_id, sha256 from minutes_records where room_id = $1 order by signed_at', [roomId])
+    expect(rows).toEqual([{ resolution_id: resolutionId, sha256: record.sha256 }, { resolution_id: amendmentId, sha256: amendment.sha256 }])
+
+    const file = await download(people.secretary, `/api/rooms/${roomId}/minutes/records/${amendment.id}.pdf`)
+    expect(sha256(file.bytes)).toBe(amendment.sha256)
+    expect(pdfsig(file.bytes, 'amendment.pdf')).toContain('Signature Validation: Signature is Valid.')
+    const text = pdftotext(file.bytes, 'amendment.pdf').replace(/\s+/g, ' ')
+    expect(text).toContain('Chosen alternative Broad plan')
+    expect(text).toMatch(/Amends the resolution of .{5,60}? choosing Worse plan \(signed /)
+    expect(text).toContain('The consent for Worse plan was withdrawn on appeal.')
+    // The first record keeps its bytes; the amended resolution stays frozen.
+    expect(sha256((await download(people.secretary, `/api/rooms/${roomId}/minutes/records/${record.id}.pdf`)).bytes)).toBe(record.sha256)
+    const { rows: [original] } = await testDb().query('select rationale, frozen_at from resolutions where id = $1', [resolutionId])
+    expect(original.rationale).toBe('The site next to the ring road (rationale).')
+    expect(original.frozen_at).toBeInstanceOf(Date)
+    // Signing once more: the amendment is frozen now too.
+    expect((await people.secretary.post(`/api/rooms/${roomId}/minutes/sign`)).status).toBe(409)
+  })
+
+  it('exports the full record for the archive as JSON: every resolution in full with its amendment chain, every vote with its tally, every audit entry, the signed files', async () => {
     const json = await download(people.secretary, `/api/rooms/${roomId}/minutes/export.json`)
     expect(json.status).toBe(200)
+    expect(json.type).toMatch(/^application\/json/)
     const exported = JSON.parse(json.bytes.toString('utf8'))
-    expect(exported.format).toBe('counterpoise-decision-record')
+    expect(exported).toMatchObject({ format: 'counterpoise-decision-record', formatVersion: 2 })
     expect(exported.minutes.ledger.hash).toBe(ledgerHash)
-    expect(exported.signedMinutes.map((r: { sha256: string }) => r.sha256)).toContain(record.sha256)
+    expect(exported.minutes.resolution.id).toBe(amendmentId)
+
+    // Resolutions, oldest first, with their whole text (compared with the database rows) and how they amend one another.
+    const { rows: stored } = await testDb().query('select id, amends, alternative_id, justification, rationale, conditions, dissent, frozen_at from resolutions where room_id = $1 order by recorded_at', [roomId])
+    expect(exported.resolutions.map((r: any) => r.id)).toEqual([resolutionId, amendmentId])
+    for (const [i, row] of stored.entries()) {
+      expect(exported.resolutions[i]).toMatchObject({
+        id: row.id, amends: row.amends, alternativeId: row.alternative_id, justification: row.justification,
+        rationale: row.rationale, conditions: row.conditions, dissent: row.dissent, frozenAt: row.frozen_at.toISOString(),
+      })
+    }
+    expect(exported.resolutions[0]).toMatchObject({ amendsChain: [], amendedBy: [amendmentId], justification: 'Only Worse plan has planning consent today.', engineStatus: 'dominated' })
+    expect(exported.resolutions[1]).toMatchObject({ amends: resolutionId, amendsChain: [resolutionId], amendedBy: [], rationale: AMENDED_RATIONALE, engineStatus: 'efficient' })
+
+    // The vote with its tally (counted by hand from the two ballots above); who chose what stays out.
+    expect(exported.votes).toHaveLength(1)
+    expect(exported.votes[0]).toMatchObject({ status: 'closed', cast: 2, eligible: 2, shortlist: ['broad', 'quick', 'cheap'] })
+    expect(exported.votes[0].tally).toEqual([
+      { alternativeId: 'broad', name: 'Broad plan', approve: 2, object: 0, abstain: 0 },
+      { alternativeId: 'quick', name: 'Quick plan', approve: 1, object: 0, abstain: 1 },
+      { alternativeId: 'cheap', name: 'Cheap plan', approve: 0, object: 2, abstain: 0 },
+    ])
+    expect(exported.votes[0]).not.toHaveProperty('ballots')
+
+    // Every audit entry of the room, oldest first, not only the counts.
+    const { rows: audits } = await testDb().query('select id::int as id, action, details from audit_log where room_id = $1 order by id', [roomId])
+    expect(exported.audit.map((a: any) => [a.id, a.action])).toEqual(audits.map(a => [a.id, a.action]))
+    expect(exported.audit.map((a: any) => a.details)).toEqual(audits.map(a => a.details))
+    expect(exported.audit.length).toBe(exported.minutes.audit.total)
+    expect(exported.audit.find((a: any) => a.action === 'resolution.amended')).toMatchObject({ actor: 'Test minutes-facilitator', details: { resolution: amendmentId, amends: resolutionId } })
+    expect(exported.audit.filter((a: any) => a.action === 'minutes.signed').map((a: any) => a.details.sha256)).toEqual([record.sha256, amendment.sha256])
+
+    expect(exported.signedMinutes.map((r: any) => [r.resolutionId, r.sha256])).toEqual([[resolutionId, record.sha256], [amendmentId, amendment.sha256]])
+    expect((await people.s1.get(`/api/rooms/${roomId}/minutes/export.json`)).status).toBe(403)
+    expect((await people.outsider.get(`/api/rooms/${roomId}/minutes/export.json`)).status).toBe(404)
+  })
+
+  it('exports the tables as CSV', async () => {
     const csv = await download(people.facilitator, `/api/rooms/${roomId}/minutes/export.csv?table=alternatives`)
     expect(csv.status).toBe(200)
     expect(csv.type).toMatch(/^text\/csv/)
@@ -334,7 +409,7 @@ describe('signing, checking and sending the minutes', () => {
     const wrong = await people.secretary.get(`/api/rooms/${roomId}/minutes/export.csv?table=everything`)
     expect(wrong.status).toBe(400)
     expect(wrong.body.message).toContain('alternatives, weightings, vote')
-    expect((await people.s1.get(`/api/rooms/${roomId}/minutes/export.json`)).status).toBe(403)
+    expect((await people.s1.get(`/api/rooms/${roomId}/minutes/export.csv?table=vote`)).status).toBe(403)
   })
 
   it('a signed record cannot be changed or deleted in the database', async () => {
@@ -352,5 +427,26 @@ describe('signing, checking and sending the minutes', () => {
     const empty = await people.secretary.get(`/api/rooms/${otherRoom}/minutes`)
     expect(empty.status).toBe(409)
     expect(empty.body.message).toMatch(/ledger/)
+  })
+})
+
+describe('the minutes CSV against formula injection', () => {
+  it('an alternative whose name begins with "=" comes back with a leading apostrophe in the CSV; the JSON keeps the name as it is', async () => {
+    const formula = '=HYPERLINK("http://example.org/x","Depot")'
+    const room = (await people.facilitator.post('/api/rooms', { title: `Formula room ${Math.random().toString(36).slice(2, 8)}`, question: 'Which depot plan should we fund?' })).body.id
+    const named = [{ ...alternatives[0]!, name: formula }, ...alternatives.slice(1, 3)]
+    expect((await people.facilitator.request('PUT', `/api/rooms/${room}/ledger`, { baseVersion: 0, criteria, alternatives: named })).status).toBe(201)
+
+    const csv = await download(people.facilitator, `/api/rooms/${room}/minutes/export.csv?table=alternatives`)
+    expect(csv.status).toBe(200)
+    const text = csv.bytes.toString('utf8')
+    expect(text).toContain('"\'=HYPERLINK(""http://example.org/x"",""Depot"")"')
+    // Read back by Python's csv module (outside the project): the first cell of the row is the name behind an apostrophe.
+    const parsed = spawnSync('/usr/bin/python3', ['-c', 'import csv, json, sys; print(json.dumps([r[0] for r in csv.reader(sys.stdin.read().lstrip("\ufeff").splitlines())]))'], { input: text, encoding: 'utf8' })
+    expect(parsed.status, parsed.stderr).toBe(0)
+    expect(JSON.parse(parsed.stdout)).toEqual(['Alternative', `'${formula}`, 'Broad plan', 'Quick plan'])
+
+    const json = await download(people.facilitator, `/api/rooms/${room}/minutes/export.json`)
+    expect(JSON.parse(json.bytes.toString('utf8')).minutes.alternatives[0].name).toBe(formula)
   })
 })

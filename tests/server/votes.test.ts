@@ -141,9 +141,18 @@ describe('the final vote', () => {
 
     // A new ballot replaces the earlier one, until the vote closes.
     const changed = { cheap: 'approve', broad: 'approve', quick: 'object' }
-    const revised = await emitAck<MyBallot>(phone, 'ballot:cast', { roomId, voteId, idempotencyKey: randomUUID(), choices: changed })
+    const changedKey = randomUUID()
+    const revised = await emitAck<MyBallot>(phone, 'ballot:cast', { roomId, voteId, idempotencyKey: changedKey, choices: changed })
     expect(revised).toMatchObject({ ok: true, data: { revision: 2, choices: changed } })
     expect(await count('ballots', 'vote_id = $1', [voteId])).toBe(1)
+
+    // The first ballot arriving late (held up somewhere) does not bring its choices back: it is
+    // answered as replaced, with the later ballot, and nothing is stored.
+    const auditBefore = await count('audit_log', 'room_id = $1 and action = \'ballot.cast\'', [roomId])
+    const late = await emitAck<MyBallot>(phone, 'ballot:cast', { roomId, voteId, idempotencyKey: key, choices })
+    expect(late).toMatchObject({ ok: true, data: { superseded: true, idempotencyKey: changedKey, revision: 2, choices: changed } })
+    expect((await ballotsOf(voteId)).map(b => [b.choices, b.revision, b.idempotency_key])).toEqual([[changed, 2, changedKey]])
+    expect(await count('audit_log', 'room_id = $1 and action = \'ballot.cast\'', [roomId])).toBe(auditBefore)
 
     // A reloaded phone gets its ballot back.
     const rejoin = await emitAck<JoinedRoom>(phone, 'room:join', { roomId })

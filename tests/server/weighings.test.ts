@@ -1,4 +1,4 @@
-import { randomUUID } from 'node:crypto'
+import { createHash, randomUUID } from 'node:crypto'
 import { io as connect, type Socket } from 'socket.io-client'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Ack, ClientToServerEvents, JoinedRoom, MySubmission, RoomLiveState, ServerToClientEvents } from '../../shared/types/realtime'
@@ -49,8 +49,37 @@ function nextState(socket: RoomSocket, test: (s: RoomLiveState) => boolean) {
   })
 }
 
+/** `promise`, or a failure naming what did not happen within `ms`. */
+function within<T>(promise: Promise<T>, ms: number, what: string) {
+  return Promise.race([promise, new Promise<never>((_, reject) => setTimeout(() => reject(new Error(`no ${what} within ${ms} ms`)), ms))])
+}
+const nextEvent = <E extends keyof ServerToClientEvents>(socket: RoomSocket, event: E, test: (...args: Parameters<ServerToClientEvents[E]>) => boolean = () => true) =>
+  new Promise<Parameters<ServerToClientEvents[E]>[0]>((resolve) => {
+    const listener = ((...args: Parameters<ServerToClientEvents[E]>) => {
+      if (!test(...args)) return
+      socket.off(event, listener as never)
+      resolve(args[0])
+    }) as never
+    socket.on(event, listener)
+  })
+
+/** A room with the ledger above and the given members (label → role), each a signed-in person. */
+async function newRoom(title: string, members: Record<string, 'facilitator' | 'stakeholder' | 'observer' | 'secretary'>) {
+  const owner = await newPerson(baseUrl, `${title}-owner`)
+  const id = (await owner.client.post('/api/rooms', { title, question: 'Which plan?' })).body.id as string
+  expect((await owner.client.request('PUT', `/api/rooms/${id}/ledger`, { baseVersion: 0, criteria, alternatives })).status).toBe(201)
+  const who: Record<string, { client: Client, id: string, name: string }> = { owner: { client: owner.client, id: owner.user.id, name: owner.user.displayName } }
+  for (const [label, role] of Object.entries(members)) {
+    const person = await newPerson(baseUrl, `${title}-${label}`)
+    await testDb().query('insert into room_members (room_id, user_id, role) values ($1, $2, $3)', [id, person.user.id, role])
+    who[label] = { client: person.client, id: person.user.id, name: person.user.displayName }
+  }
+  return { id, who }
+}
+
 let roomId = ''
 const people: Record<string, Client> = {}
+const userIds: Record<string, string> = {}
 let extraServer: RunningServer | undefined
 
 beforeAll(async () => {
@@ -62,6 +91,7 @@ beforeAll(async () => {
     const person = await newPerson(baseUrl, label)
     await testDb().query('insert into room_members (room_id, user_id, role) values ($1, $2, $3)', [roomId, person.user.id, role])
     people[label] = person.client
+    userIds[label] = person.user.id
   }
   people.outsider = (await newPerson(baseUrl, 'weigh-outsider')).client
 })
@@ -123,9 +153,17 @@ describe('a weighing round over sockets', () => {
     expect(await count('submissions', 'weighing_id = $1', [weighingId])).toBe(1)
 
     // A new submission replaces the earlier one.
-    const revised = await emitAck<MySubmission>(phone, 'weights:submit', { roomId, weighingId, idempotencyKey: randomUUID(), weights: [0, 1, 0] })
+    const revisedKey = randomUUID()
+    const revised = await emitAck<MySubmission>(phone, 'weights:submit', { roomId, weighingId, idempotencyKey: revisedKey, weights: [0, 1, 0] })
     expect(revised).toMatchObject({ ok: true, data: { revision: 2, weights: [0, 1, 0] } })
     expect(await count('submissions', 'weighing_id = $1', [weighingId])).toBe(1)
+
+    // The first one arriving late (held up somewhere) does not bring its weights back: it is
+    // answered as replaced, with the later submission, and nothing is stored.
+    const late = await emitAck<MySubmission>(phone, 'weights:submit', { roomId, weighingId, idempotencyKey: key, weights: [2, 1, 1] })
+    expect(late).toMatchObject({ ok: true, data: { superseded: true, idempotencyKey: revisedKey, revision: 2, weights: [0, 1, 0] } })
+    const { rows: after } = await testDb().query('select weights, revision, idempotency_key from submissions where weighing_id = $1', [weighingId])
+    expect(after).toEqual([{ weights: [0, 1, 0], revision: 2, idempotency_key: revisedKey }])
   })
 
   it.each([
@@ -171,6 +209,27 @@ describe('a weighing round over sockets', () => {
     await connected(outsider)
     expect(await emitAck(outsider, 'room:join', { roomId })).toMatchObject({ ok: false, status: 404 })
     expect(await emitAck(outsider, 'weights:submit', { roomId, weighingId, idempotencyKey: randomUUID(), weights: [1, 1, 1] })).toMatchObject({ ok: false, status: 404 })
+  })
+
+  it('answers a flood of submissions from one socket with 429 beyond the limit, and stores at most one revision per accepted one', async () => {
+    const phone = socketFor(people.s2!)
+    await connected(phone)
+    const revisionOfS2 = async () => (await testDb().query('select revision from submissions where weighing_id = $1 and user_id = $2', [weighingId, userIds.s2])).rows.map(r => r.revision as number)
+    const [before] = await revisionOfS2()
+    expect(before).toBeGreaterThanOrEqual(1)
+    const audited = () => count('audit_log', 'room_id = $1 and action = \'weights.submitted\'', [roomId])
+    const auditBefore = await audited()
+    const answers = await Promise.all(Array.from({ length: 60 }, (_, i) => emitAck<MySubmission>(phone, 'weights:submit', { roomId, weighingId, idempotencyKey: randomUUID(), weights: [1, 1 + i, 1] })))
+    const accepted = answers.filter(a => a.ok).length
+    // SOCKET_EVENT_LIMIT in server/utils/socketHandlers.ts: 40 events per 10 s.
+    expect(accepted).toBeLessThanOrEqual(40)
+    expect(accepted).toBeGreaterThan(0)
+    expect(answers.filter(a => !a.ok).every(a => !a.ok && a.status === 429)).toBe(true)
+    expect(answers.filter(a => !a.ok)).toHaveLength(60 - accepted)
+    // One row per person; one revision and one audit entry per accepted submission, none for a refused one.
+    expect(await revisionOfS2()).toEqual([before! + accepted])
+    expect(await audited()).toBe(auditBefore + accepted)
+    expect((await people.s2!.get('/api/health')).status).toBe(200)
   })
 
   it('slows down a socket that floods events, without crashing or storing anything extra', async () => {
@@ -240,4 +299,129 @@ describe('two server processes on one database', () => {
     expect((await emitAck(phone, 'weights:submit', { roomId, weighingId: opened.body.id, idempotencyKey: randomUUID(), weights: [1, 1, 1] })).ok).toBe(true)
     expect((await seen).submitted).toBe(1)
   }, 30_000)
+})
+
+describe('membership changes reach the live sockets, in every process', () => {
+  it('a removed member stops hearing the room, a demoted facilitator stops seeing names, a promoted one sees them after joining again', async () => {
+    extraServer ??= await startBuiltServer({ ...process.env, BASE_URL: '' })
+    const other = extraServer.baseUrl
+    const { id, who } = await newRoom('members', { co: 'facilitator', leaving: 'stakeholder', rising: 'stakeholder', staying: 'stakeholder' })
+    const opened = await who.owner!.client.post(`/api/rooms/${id}/weighings`, { inputStyle: 'sliders', showNames: true })
+    expect(opened.status).toBe(201)
+    const weighingId = opened.body.id as string
+    // The changes go through the first process; the sockets that must feel them sit on the second.
+    const watch = socketFor(who.owner!.client, other)
+    const co = socketFor(who.co!.client, other)
+    const leaving = socketFor(who.leaving!.client, other)
+    const rising = socketFor(who.rising!.client, baseUrl)
+    const staying = socketFor(who.staying!.client, baseUrl)
+    await Promise.all([watch, co, leaving, rising, staying].map(connected))
+    for (const socket of [watch, co, leaving, rising, staying]) expect((await emitAck<JoinedRoom>(socket, 'room:join', { roomId: id })).ok).toBe(true)
+    const heardByLeaving: RoomLiveState[] = []
+    leaving.on('room:state', state => heardByLeaving.push(state))
+    const namesSeenByCo: string[][] = []
+    co.on('weighing:names', list => namesSeenByCo.push(list.names))
+    const submit = (socket: RoomSocket, weights: number[]) => emitAck<MySubmission>(socket, 'weights:submit', { roomId: id, weighingId, idempotencyKey: randomUUID(), weights })
+
+    // Removed: told to join again (and refused), and the room hears there are now two who may weigh.
+    const leavingTold = nextEvent(leaving, 'room:membership', body => body.roomId === id)
+    const fewer = nextState(watch, s => s.eligible === 2)
+    expect((await who.owner!.client.request('DELETE', `/api/rooms/${id}/members/${who.leaving!.id}`)).status).toBe(200)
+    await within(leavingTold, 5000, 'room:membership for the removed member')
+    await within(fewer, 5000, 'room state with 2 eligible')
+    expect(await emitAck(leaving, 'room:join', { roomId: id })).toMatchObject({ ok: false, status: 404 })
+    const afterStaying = nextState(watch, s => s.submitted === 1)
+    const namesAfterStaying = nextEvent(watch, 'weighing:names', list => list.names.length === 1)
+    expect((await submit(staying, [1, 0, 0])).ok).toBe(true)
+    await within(afterStaying, 5000, 'room state after a submission')
+    expect(await within(namesAfterStaying, 5000, 'names for the facilitator')).toMatchObject({ names: [who.staying!.name] })
+
+    // Demoted: names go on reaching the facilitator who stayed, no longer the demoted one.
+    const coTold = nextEvent(co, 'room:membership', body => body.roomId === id)
+    expect((await who.owner!.client.patch(`/api/rooms/${id}/members/${who.co!.id}`, { role: 'observer' })).body).toMatchObject({ role: 'observer', changed: true })
+    await within(coTold, 5000, 'room:membership for the demoted facilitator')
+    namesSeenByCo.length = 0
+    const namesAfterRising = nextEvent(watch, 'weighing:names', list => list.names.length === 2)
+    expect((await submit(rising, [0, 1, 0])).ok).toBe(true)
+    expect((await within(namesAfterRising, 5000, 'names after the second submission')).names).toContain(who.rising!.name)
+    const coAgain = await emitAck<JoinedRoom>(co, 'room:join', { roomId: id })
+    expect(coAgain).toMatchObject({ ok: true, data: { role: 'observer', state: { submitted: 2 } } })
+
+    // Promoted: after joining again, the names come, and keep coming.
+    const risingTold = nextEvent(rising, 'room:membership', body => body.roomId === id)
+    const fewerStill = nextState(watch, s => s.eligible === 1)
+    expect((await who.owner!.client.patch(`/api/rooms/${id}/members/${who.rising!.id}`, { role: 'facilitator' })).status).toBe(200)
+    await within(risingTold, 5000, 'room:membership for the promoted member')
+    await within(fewerStill, 5000, 'room state with 1 eligible')
+    const firstNames = nextEvent(rising, 'weighing:names')
+    expect(await emitAck<JoinedRoom>(rising, 'room:join', { roomId: id })).toMatchObject({ ok: true, data: { role: 'facilitator' } })
+    expect((await within(firstNames, 5000, 'names for the promoted facilitator')).names.slice().sort()).toEqual([who.rising!.name, who.staying!.name].sort())
+    const liveNames = nextEvent(rising, 'weighing:names')
+    const lastState = nextState(watch, s => s.submitted === 2 && s.eligible === 1)
+    expect((await submit(staying, [0, 0, 1])).ok).toBe(true)
+    expect((await within(liveNames, 5000, 'live names for the promoted facilitator')).weighingId).toBe(weighingId)
+    await within(lastState, 5000, 'room state after the last submission')
+    // The same broadcasts reached the watching facilitator on the same process: give stragglers a moment.
+    await new Promise(resolve => setTimeout(resolve, 300))
+    expect(heardByLeaving.filter(s => s.submitted > 0)).toEqual([])
+    expect(namesSeenByCo).toEqual([])
+  }, 60_000)
+
+  it('answers a late resend of a replaced submission arriving at another process as replaced, and keeps the later weights', async () => {
+    extraServer ??= await startBuiltServer({ ...process.env, BASE_URL: '' })
+    const { id, who } = await newRoom('resend', { phone: 'stakeholder' })
+    const weighingId = (await who.owner!.client.post(`/api/rooms/${id}/weighings`, { inputStyle: 'sliders' })).body.id as string
+    const here = socketFor(who.phone!.client, baseUrl)
+    const there = socketFor(who.phone!.client, extraServer.baseUrl)
+    await Promise.all([connected(here), connected(there)])
+    const first = randomUUID()
+    const second = randomUUID()
+    const send = (socket: RoomSocket, key: string, weights: number[]) => emitAck<MySubmission>(socket, 'weights:submit', { roomId: id, weighingId, idempotencyKey: key, weights })
+    expect(await send(here, first, [3, 1, 0])).toMatchObject({ ok: true, data: { revision: 1 } })
+    expect(await send(here, second, [0, 1, 3])).toMatchObject({ ok: true, data: { revision: 2 } })
+    const late = await send(there, first, [3, 1, 0])
+    expect(late).toMatchObject({ ok: true, data: { superseded: true, idempotencyKey: second, revision: 2, weights: [0, 0.25, 0.75] } })
+    const { rows } = await testDb().query('select weights, revision, idempotency_key, earlier_keys from submissions where weighing_id = $1', [weighingId])
+    expect(rows).toEqual([{ weights: [0, 0.25, 0.75], revision: 2, idempotency_key: second, earlier_keys: [first] }])
+    expect(await count('audit_log', 'room_id = $1 and action = \'weights.submitted\'', [id])).toBe(2)
+    // The latest key sent again is still the plain "already stored" answer.
+    const same = await send(there, second, [0, 1, 3])
+    expect(same).toMatchObject({ ok: true, data: { revision: 2, idempotencyKey: second } })
+    expect((same as { data: MySubmission }).data.superseded).toBeUndefined()
+  }, 30_000)
+})
+
+describe('anonymous labels', () => {
+  it('follow a keyed order that is not the order of submission, the same on every call and in the minutes', async () => {
+    const { id, who } = await newRoom('anonymous', { a: 'stakeholder', b: 'stakeholder', c: 'stakeholder', d: 'stakeholder' })
+    const weighingId = (await who.owner!.client.post(`/api/rooms/${id}/weighings`, { inputStyle: 'sliders', showNames: false })).body.id as string
+    // Rows with known ids, so the keyed order is known here: SHA-256 (Node's crypto) of
+    // "anonymous-order:<weighing id>:<submission id>", ascending in hex.
+    const people = ['a', 'b', 'c', 'd'] as const
+    const weightsOf = { a: [1, 0, 0], b: [0, 1, 0], c: [0, 0, 1], d: [0.5, 0.5, 0] } as Record<string, number[]>
+    const rowIds = Object.fromEntries(people.map(p => [p, randomUUID()]))
+    const key = (p: string) => createHash('sha256').update(`anonymous-order:${weighingId}:${rowIds[p]}`).digest('hex')
+    const keyed = [...people].sort((x, y) => (key(x) < key(y) ? -1 : 1))
+    // Submitted in the reverse of that order, so the two orders differ whatever the ids.
+    const submittedOrder = [...keyed].reverse()
+    for (const [i, p] of submittedOrder.entries()) {
+      await testDb().query('insert into submissions (id, weighing_id, user_id, weights, idempotency_key, submitted_at) values ($1, $2, $3, $4, $5, now() + make_interval(secs => $6))', [rowIds[p], weighingId, who[p]!.id, JSON.stringify(weightsOf[p]), `key-${p}`, i])
+    }
+    expect((await who.owner!.client.post(`/api/rooms/${id}/weighings/${weighingId}/close`)).status).toBe(200)
+    expect((await who.owner!.client.post(`/api/rooms/${id}/weighings/${weighingId}/reveal`)).status).toBe(200)
+    const first = await who.owner!.client.get(`/api/rooms/${id}/weighings/${weighingId}/results`)
+    expect(first.status).toBe(200)
+    const rows = first.body.weightings.map((w: { label: string, weights: number[] }) => [w.label, w.weights])
+    expect(rows).toEqual(keyed.map((p, i) => [`Stakeholder ${i + 1}`, weightsOf[p]]))
+    expect(rows.map((r: [string, number[]]) => r[1])).not.toEqual(submittedOrder.map(p => weightsOf[p]))
+    expect(JSON.stringify(first.body)).not.toContain('Test anonymous-')
+    // Stable: the same labels on the same weightings on another call, by another person.
+    const again = await who.a!.client.get(`/api/rooms/${id}/weighings/${weighingId}/results`)
+    expect(again.body.weightings).toEqual(first.body.weightings)
+    // The minutes label them the same way (weights as whole percentages).
+    const minutes = await who.owner!.client.get(`/api/rooms/${id}/minutes`)
+    expect(minutes.status).toBe(200)
+    expect(minutes.body.rounds[0].weightings.map((w: { label: string, weightsPercent: number[] }) => [w.label, w.weightsPercent]))
+      .toEqual(keyed.map((p, i) => [`Stakeholder ${i + 1}`, weightsOf[p]!.map(v => v * 100)]))
+  })
 })

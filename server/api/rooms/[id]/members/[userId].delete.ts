@@ -7,7 +7,7 @@ export default defineEventHandler(async (event) => {
   const user = await requireUser(event)
   const { id, userId } = validParams(event, MemberParams)
   await requireRoomPermission(id, user.id, 'people:manage')
-  return useDb().transaction(async (tx) => {
+  const answer = await useDb().transaction(async (tx) => {
     const members = await lockRoomMembers(tx, id)
     const target = members.find(m => m.userId === userId)
     if (!target) throw createError({ statusCode: 404, message: 'That person is not in this room.' })
@@ -18,4 +18,7 @@ export default defineEventHandler(async (event) => {
     await audit({ actorId: user.id, roomId: id, action: 'member.removed', details: { userId, role: target.role } }, tx)
     return { userId, removed: true }
   })
+  // Committed: the removed member's live sockets stop hearing the room (server/utils/realtime.ts).
+  await membershipChanged(id, userId)
+  return answer
 })

@@ -8,7 +8,7 @@ export default defineEventHandler(async (event) => {
   const { id, userId } = validParams(event, MemberParams)
   await requireRoomPermission(id, user.id, 'people:manage')
   const body = await validBody(event, MemberRoleBody)
-  return useDb().transaction(async (tx) => {
+  const answer = await useDb().transaction(async (tx) => {
     const members = await lockRoomMembers(tx, id)
     const target = members.find(m => m.userId === userId)
     if (!target) throw createError({ statusCode: 404, message: 'That person is not in this room.' })
@@ -20,4 +20,7 @@ export default defineEventHandler(async (event) => {
     await audit({ actorId: user.id, roomId: id, action: 'member.role-changed', details: { userId, from: target.role, to: body.role } }, tx)
     return { userId, role: body.role, changed: true }
   })
+  // Committed: the live sockets follow the new role (server/utils/realtime.ts).
+  if (answer.changed) await membershipChanged(id, userId)
+  return answer
 })
