@@ -55,10 +55,12 @@ export async function broadcastRoomState(roomId: string): Promise<void> {
 async function sendRoomState(roomId: string) {
   if (!io) return
   try {
-    const state = await liveState(roomId)
+    // Shared with joins of the room that asked no earlier (server/utils/freshRead.ts).
+    const state = await freshRead(`live:${roomId}`, () => liveState(roomId))
     io.to(roomChannel(roomId)).emit('room:state', state)
     if (state.weighing) {
-      io.to(facilitatorChannel(roomId)).emit('weighing:names', { weighingId: state.weighing.id, names: await submittedNames(state.weighing.id) })
+      const weighingId = state.weighing.id
+      io.to(facilitatorChannel(roomId)).emit('weighing:names', { weighingId, names: await freshRead(`names:${weighingId}`, () => submittedNames(weighingId)) })
     }
   }
   catch (error) {

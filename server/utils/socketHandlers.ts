@@ -59,12 +59,18 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
         throw createError({ statusCode: 409, message: 'Your role in this room changed while joining; join again.' })
       }
       socket.data.rooms.set(roomId, role)
-      const state = await liveState(roomId)
-      const vote = await currentVote(roomId, { withBallots: roleAllows(role, 'weighing:run') })
+      // Reads shared with the other joins (and broadcasts) of this room that began no earlier than
+      // this socket joined its channels: a crowd joining at once costs a few reads, none stale.
+      const withBallots = roleAllows(role, 'weighing:run')
+      const [state, vote] = await Promise.all([
+        freshRead(`live:${roomId}`, () => liveState(roomId)),
+        freshRead(`vote:${roomId}:${withBallots}`, () => currentVote(roomId, { withBallots })),
+      ])
       const ballot = vote && roleAllows(role, 'vote:cast') ? await myBallot(roomId, socket.data.userId) : null
       answer(ack, { ok: true, data: { role, state, mine: roleAllows(role, 'weights:submit') ? await mySubmission(roomId, socket.data.userId) : null, vote, myBallot: ballot } })
       if (state.weighing && roleAllows(role, 'weighing:run')) {
-        socket.emit('weighing:names', { weighingId: state.weighing.id, names: await submittedNames(state.weighing.id) })
+        const weighingId = state.weighing.id
+        socket.emit('weighing:names', { weighingId, names: await freshRead(`names:${weighingId}`, () => submittedNames(weighingId)) })
       }
     }
     catch (error) {

@@ -215,7 +215,7 @@ export async function broadcastVoteState(roomId: string) {
   const io = useRealtime()
   if (!io) return
   try {
-    const vote = await currentVote(roomId, { withBallots: true })
+    const vote = await freshRead(`vote:${roomId}:true`, () => currentVote(roomId, { withBallots: true }))
     io.to(roomChannel(roomId)).except(facilitatorChannel(roomId)).emit('vote:state', { roomId, vote: vote && withoutBallots(vote) })
     io.to(facilitatorChannel(roomId)).emit('vote:state', { roomId, vote })
   }
