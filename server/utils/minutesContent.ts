@@ -12,6 +12,7 @@ import { pairFront } from '../../shared/utils/chartData'
 import { GROUP_RULE_LABELS } from '../../shared/utils/narrowing'
 import { largestRemainderPercentages } from '../../shared/utils/percentages'
 import { tallyBallots } from '../../shared/utils/tally'
+import { roundAcceptabilityDraws } from '../../shared/utils/weightSpace'
 import type { Db, Tx } from './db'
 
 export const MINUTES_CAUTION = 'Counterpoise supports the group’s deliberation; it does not decide. Responsibility for the decision stays with the people who took it and with the rules that govern them locally.'
@@ -90,6 +91,8 @@ async function roundsOf(roomId: string, revealed: { id: string }[]): Promise<Min
         favourites: g.favourites.map(nameOf),
         note: g.note,
       })),
+      // The same draws the weight-space view makes for this weighing, so its figures can be drawn again.
+      acceptability: roundAcceptabilityDraws(id),
     })
   }
   return rounds

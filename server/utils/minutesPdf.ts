@@ -18,6 +18,7 @@ import { STATUS_VOCABULARY, formatNumber } from '../../shared/statusVocabulary'
 import type { MinutesContent } from '../../shared/types/minutes'
 import { niceAxis, type PairFront } from '../../shared/utils/chartData'
 import { fileSize } from '../../shared/utils/fileSize'
+import { acceptabilityDrawsLine } from '../../shared/utils/weightSpace'
 
 const INK = '#12393a'
 const MUTED = '#454e57'
@@ -396,6 +397,7 @@ export async function renderMinutesPdf(content: MinutesContent, options: Minutes
       const parts = content.criteria.map((c, i) => `${c.name} ${g.weightsPercent![i]}%`).join(' · ')
       labelled(`Group (${g.ruleLabel})`, `${parts} — favours ${g.favourites.join(' = ') || '—'}; dispersion ${g.dispersionPercent}%, agreement ${g.agreementPercent}% of stakeholders`, 12)
     }
+    text(acceptabilityDrawsLine(round.acceptability), { color: MUTED, indent: 12 })
     doc.y += 4
   }
 

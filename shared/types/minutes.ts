@@ -85,6 +85,8 @@ export interface MinutesRound {
   /** Alternative names with how many stakeholders favoured each (ties share a vote). */
   favouredBy: { name: string, count: number }[]
   group: MinutesGroupStanding[]
+  /** The draws behind the round's acceptability figures in the weight-space view (roundAcceptabilityDraws). */
+  acceptability: { samples: number, seed: number }
 }
 
 export interface MinutesVote {

@@ -13,6 +13,29 @@ export function seedFromText(text: string): number {
   return hash >>> 0
 }
 
+/** How many weightings a revealed round's acceptability figures draw. */
+export const ROUND_ACCEPTABILITY_SAMPLES = 10_000
+
+/** The draws behind a revealed round's acceptability figures: how many, and the seed. */
+export interface RoundAcceptabilityDraws {
+  samples: number
+  seed: number
+}
+
+/**
+ * The draws for the acceptability figures of the weighing `weighingId`, as the weight-space view
+ * makes them and the minutes record them: the seed comes from the weighing's id, so anyone with the
+ * round's option table and weightings can draw the same figures again.
+ */
+export function roundAcceptabilityDraws(weighingId: string): RoundAcceptabilityDraws {
+  return { samples: ROUND_ACCEPTABILITY_SAMPLES, seed: seedFromText(weighingId) }
+}
+
+/** The minutes' line for a round's draws: "Acceptability figures: 10,000 random weightings, seed 1234567890". */
+export function acceptabilityDrawsLine(draws: RoundAcceptabilityDraws): string {
+  return `Acceptability figures: ${draws.samples.toLocaleString('en-GB')} random weighting${draws.samples === 1 ? '' : 's'}, seed ${draws.seed}`
+}
+
 /**
  * The three criteria for the triangle's corners: all of them when there are three; otherwise the
  * three with the largest weights in `weights` (ties: criterion order), kept in criterion order.

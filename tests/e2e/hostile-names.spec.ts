@@ -1,14 +1,18 @@
 import { randomUUID } from 'node:crypto'
-import type { Locator, Page } from '@playwright/test'
+import type { Browser, Locator, Page } from '@playwright/test'
 import { testDb } from '../support/db'
 import { expect, test, uniqueEmail } from './fixtures'
-import { closePhones, member, PASSWORD, weigh } from './people'
+import { invitationLinkFor } from './mail'
+import { account, closePhones, member, PASSWORD, weigh } from './people'
 
 /**
  * Names with HTML, script, template and formula syntax in them render as text on every main page:
  * My rooms, the room's tabs (the ledger with its front chart and value paths, the weighing console
  * after a reveal with the favourites chart, the vote and resolution, the people), the minutes
- * preview, the gallery, the stakeholder's phone page and the site administrator's list of people.
+ * preview, the gallery, the stakeholder's phone page, the invitation link's page (room title,
+ * question and inviter), the room as someone who joined it by its code sees it, the check page for
+ * the minutes the hostile secretary signed (the signer in the PDF's signature, the signer and room
+ * this server recorded) and the site administrator's list of people.
  * On each page: nothing ran (`window.__pwned` unset, no dialog), no element came from a name (no
  * img[src=x], no on… attribute anywhere, no script mentioning __pwned, no javascript: link), and
  * the names are shown literally where they are shown, `{{ 7*7 }}` included (not 49). The page
@@ -89,6 +93,16 @@ async function injected(page: Page) {
 
 const CLEAN = { markupWrites: [], pwned: null, imgX: 0, svgOnload: 0, onAttributes: [], scripts: 0, javascriptLinks: 0, boldU: 0 }
 
+/** A browser context signed in with `person`'s session cookie. */
+async function contextAs(browser: Browser, baseURL: string, person: { cookie: string }) {
+  const context = await browser.newContext({ baseURL })
+  await context.addCookies(person.cookie.split('; ').map((pair) => {
+    const [name, ...rest] = pair.split('=')
+    return { name: name!, value: rest.join('='), url: baseURL }
+  }))
+  return context
+}
+
 /** Nothing injected, and each text shown literally (visible) somewhere in `scope`. */
 async function checkPage(page: Page, where: string, texts: string[], scope: Page | Locator = page) {
   await page.waitForLoadState('networkidle')
@@ -101,14 +115,22 @@ async function checkPage(page: Page, where: string, texts: string[], scope: Page
 
 test('names with HTML, script and template syntax render as text on every page', async ({ page, browser, baseURL }, testInfo) => {
   test.skip(testInfo.project.name !== 'desktop', 'one pass over the pages; the stakeholder\'s phone is a context of its own')
-  test.setTimeout(240_000)
+  test.setTimeout(300_000)
+  expect(process.env.COUNTERPOISE_SIGNING_P12, 'npm test gives the server and the tests the signing key (the minutes are signed below)').toBeTruthy()
   const dialogs: string[] = []
+  // The page fixture guards only `page`: the other contexts' pages report their CSP violations here.
+  const violations: string[] = []
   const watch = async (p: Page) => {
     await p.addInitScript(watchMarkupWrites)
     p.on('dialog', (dialog) => {
       dialogs.push(dialog.message())
       void dialog.dismiss()
     })
+    if (p !== page) {
+      p.on('console', (message) => {
+        if (/Content Security Policy|Refused to (load|execute|apply|connect|create|frame)/i.test(message.text())) violations.push(message.text())
+      })
+    }
   }
   await watch(page)
 
@@ -131,8 +153,9 @@ test('names with HTML, script and template syntax render as text on every page',
   await testDb().query('insert into room_members (room_id, user_id, role) values ($1, $2, \'stakeholder\')', [roomId, phoneUserId])
   const second = await member(baseURL!, roomId, H.script, 'stakeholder')
   const secretary = await member(baseURL!, roomId, H.svg, 'secretary')
-  // A pending invitation, listed on the People tab.
-  expect((await page.request.post(`/api/rooms/${roomId}/invitations`, { data: { email: uniqueEmail('hostile-invitee'), role: 'observer' } })).status()).toBe(201)
+  // A pending invitation, listed on the People tab; its link is opened below.
+  const inviteeEmail = uniqueEmail('hostile-invitee')
+  expect((await page.request.post(`/api/rooms/${roomId}/invitations`, { data: { email: inviteeEmail, role: 'observer' } })).status()).toBe(201)
 
   try {
     // My rooms.
@@ -228,17 +251,89 @@ test('names with HTML, script and template syntax render as text on every page',
     await expect(page.getByTestId('gallery-title')).toHaveText(title)
     await checkPage(page, 'gallery', [title, H.img])
 
-    const secretaryContext = await browser.newContext({ baseURL, extraHTTPHeaders: {} })
-    await secretaryContext.addCookies((secretary.cookie.split('; ')).map((pair) => {
-      const [name, ...rest] = pair.split('=')
-      return { name: name!, value: rest.join('='), url: baseURL! }
-    }))
-    const minutes = await secretaryContext.newPage()
-    await watch(minutes)
-    await minutes.goto(`/rooms/${roomId}/minutes`)
-    await expect(minutes.getByTestId('minutes-preview')).toBeVisible()
-    await checkPage(minutes, 'minutes preview', [H.img, H.svg, H.script], minutes.getByTestId('minutes-preview'))
-    await secretaryContext.close()
+    const secretaryContext = await contextAs(browser, baseURL!, secretary)
+    try {
+      const minutes = await secretaryContext.newPage()
+      await watch(minutes)
+      await minutes.goto(`/rooms/${roomId}/minutes`)
+      await expect(minutes.getByTestId('minutes-preview')).toBeVisible()
+      await checkPage(minutes, 'minutes preview', [H.img, H.svg, H.script], minutes.getByTestId('minutes-preview'))
+
+      // The secretary (named H.svg) signs; the record names the signer.
+      await minutes.getByTestId('minutes-sign').click()
+      await minutes.getByTestId('minutes-sign-dialog').getByTestId('confirm-accept').click()
+      const record = minutes.getByTestId('minutes-record')
+      await expect(record).toHaveCount(1)
+      await checkPage(minutes, 'signed minutes record', [H.svg], record)
+      const href = await record.getByRole('link').getAttribute('href')
+      const file = await minutes.request.get(href!)
+      expect(file.status()).toBe(200)
+      const signed = [...await file.body()]
+
+      // The signed file dropped on the public check page: the signer's name is read from the
+      // signature, the signer and the room's title from this server's record, all as text.
+      await minutes.goto('/check-minutes')
+      await expect(minutes.getByTestId('check-input')).toBeEnabled()
+      const dataTransfer = await minutes.evaluateHandle((bytes) => {
+        const transfer = new DataTransfer()
+        transfer.items.add(new File([new Uint8Array(bytes)], 'hostile-minutes.pdf', { type: 'application/pdf' }))
+        return transfer
+      }, signed)
+      await minutes.getByTestId('check-drop').dispatchEvent('drop', { dataTransfer })
+      await expect(minutes.getByTestId('verdict-title')).toHaveText('Valid signature')
+      await expect(minutes.getByTestId('check-signer-name')).toHaveText(H.svg)
+      await expect(minutes.getByTestId('check-record-signer')).toHaveText(H.svg)
+      await expect(minutes.getByTestId('check-record')).toContainText(`Yes: the minutes of ${title}, signed by ${H.svg} on `)
+      await checkPage(minutes, 'check minutes', [H.svg, title], minutes.getByTestId('check-details'))
+      expect(await minutes.getByTestId('check-details').locator('script, img, svg').count(), 'no element made from a name on the check page').toBe(0)
+    }
+    finally {
+      await secretaryContext.close()
+    }
+
+    // The invitation link's page, opened by someone not signed in: the room's title and question,
+    // and the inviter's name (the facilitator, H.img).
+    const link = invitationLinkFor(inviteeEmail)
+    expect(link, 'the invitation mail reached the catcher').toBeTruthy()
+    const inviteeContext = await browser.newContext({ baseURL })
+    try {
+      const invitee = await inviteeContext.newPage()
+      await watch(invitee)
+      await invitee.goto(link!)
+      const card = invitee.getByTestId('invitation')
+      await expect(card).toBeVisible()
+      await expect(card.getByRole('heading', { level: 1 })).toHaveText(title)
+      await expect(card.locator('dd').filter({ hasText: H.img })).toHaveText(H.img)
+      await checkPage(invitee, 'invitation page', [title, question, H.img], card)
+    }
+    finally {
+      await inviteeContext.close()
+    }
+
+    // Joining by the room's code (someone named with a formula): the room as the new observer sees it.
+    const { rows: [room] } = await testDb().query<{ code: string }>('select code from rooms where id = $1', [roomId])
+    const code = room!.code
+    const joiner = await account(baseURL!, H.formula)
+    const joinerContext = await contextAs(browser, baseURL!, joiner)
+    try {
+      const joining = await joinerContext.newPage()
+      await watch(joining)
+      // Signed in, the invitation page also names the account that would join (not accepted here).
+      await joining.goto(link!)
+      await expect(joining.getByTestId('invitation')).toBeVisible()
+      await checkPage(joining, 'invitation page, signed in', [title, H.img, H.formula])
+      await joining.goto(`/join?code=${code}`)
+      await expect(joining.getByLabel('Room code')).toHaveValue(code)
+      await checkPage(joining, 'join page', [])
+      await joining.getByRole('button', { name: 'Join' }).click()
+      await expect(joining).toHaveURL(new RegExp(`/rooms/${roomId}$`))
+      await expect(joining.getByTestId('room-title')).toHaveText(title)
+      await expect(joining.getByTestId('room-role')).toHaveText('Observer')
+      await checkPage(joining, 'room after joining by code', [title, question, H.img, H.svg])
+    }
+    finally {
+      await joinerContext.close()
+    }
 
     // The site administrator's list of people: each hostile name as text in its own row.
     await page.context().clearCookies()
@@ -250,6 +345,7 @@ test('names with HTML, script and template syntax render as text on every page',
     }
 
     expect(dialogs, 'no alert or other dialog opened').toEqual([])
+    expect(violations, 'content security policy violations reported by the other contexts\' pages').toEqual([])
   }
   finally {
     closePhones()

@@ -1,17 +1,6 @@
-import { readdirSync, readFileSync } from 'node:fs'
-import { join } from 'node:path'
 import { devices, type Page } from '@playwright/test'
 import { expect, test, uniqueEmail } from './fixtures'
-
-/** The invitation link in the newest message the mail catcher (MAIL_DIR, set by npm test) holds for `address`. */
-function invitationLinkFor(address: string) {
-  const dir = process.env.MAIL_DIR
-  if (!dir) throw new Error('MAIL_DIR is not set: npm test starts the mail catcher and sets it')
-  const message = readdirSync(dir).filter(name => name.endsWith('.json')).sort().reverse()
-    .map(name => JSON.parse(readFileSync(join(dir, name), 'utf8')) as { to: string[], text: string })
-    .find(m => m.to.includes(address))
-  return message && /(https?:\/\/\S+\/invitations\/[\w-]{43})/.exec(message.text)?.[1]
-}
+import { invitationLinkFor } from './mail'
 
 async function signUp(page: Page, displayName: string) {
   await page.goto('/sign-up')

@@ -13,6 +13,7 @@ import { compromiseCandidate } from '../../shared/utils/compromise'
 import { weightedSumFavourite } from '../../shared/utils/scalarise'
 import { stabilitySentence } from '../../shared/utils/stabilityWords'
 import { weightMap } from '../../shared/utils/weightMap'
+import { seedFromText } from '../../shared/utils/weightSpace'
 import { closeTestDb } from '../support/db'
 import { expect, test } from './fixtures'
 import { closePhones, member, roomWithLedger, weigh } from './people'
@@ -129,6 +130,14 @@ test('a revealed weighing shows the triangle, acceptability, the compromise and,
   // Acceptability over any weighting, from the worker: within 4 standard errors of the exact
   // areas (uniform weights on the triangle are uniform on the simplex), plus display rounding.
   await expect(space.getByTestId('acceptability-progress')).toHaveCount(0, { timeout: 30_000 })
+  // The draws shown here are the ones the minutes record for this round: one function on both sides,
+  // the seed being the FNV-1a hash of the weighing's id.
+  const minutes = await page.request.get(`/api/rooms/${roomId}/minutes`)
+  expect(minutes.status()).toBe(200)
+  const [round] = (await minutes.json() as { rounds: { acceptability: { samples: number, seed: number } }[] }).rounds
+  expect(round!.acceptability).toEqual({ samples: 10_000, seed: seedFromText(weighingId) })
+  await expect(space.getByTestId('acceptability-seed')).toHaveText(String(round!.acceptability.seed))
+  await expect(space.getByTestId('acceptability-samples')).toHaveText('10,000')
   const anyWeighting = space.getByTestId('acceptability').filter({ hasText: 'Any weighting at all' })
   await expect(anyWeighting.locator('tbody tr')).toHaveCount(analysis.efficientIds.length)
   for (const id of analysis.efficientIds) {

@@ -15,6 +15,7 @@ import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { pdfLiteralText } from '../../server/utils/pdfSigning'
+import { seedFromText } from '../../shared/utils/weightSpace'
 import { offsetInSignedStream, withFlippedByte } from '../fixtures/minutes/sampleMinutes'
 import { Client, newPerson } from '../support/client'
 import { closeTestDb, testDb } from '../support/db'
@@ -164,6 +165,10 @@ describe('minutes before a decision', () => {
     // follow a keyed shuffle, not the order of submission: compare as a set.
     expect(body.rounds[0].weightings.map((w: any) => w.weightsPercent)).toEqual(expect.arrayContaining([[60, 20, 20], [10, 80, 10]]))
     expect(body.rounds[0].weightings).toHaveLength(2)
+    // The draws behind the round's acceptability figures, as the weight-space view makes them: the
+    // seed is the FNV-1a hash of the weighing's id (seedFromText's published test vectors are checked in the unit tests).
+    const { rows: [weighing] } = await testDb().query('select id from weighings where room_id = $1', [roomId])
+    expect(body.rounds[0].acceptability).toEqual({ samples: 10_000, seed: seedFromText(weighing.id) })
     expect(body.vote).toMatchObject({ cast: 2, eligible: 2 })
     expect(body.vote.tally).toEqual([
       { name: 'Broad plan', counts: { approve: 2, object: 0, abstain: 0 } },
@@ -256,6 +261,12 @@ describe('signing, checking and sending the minutes', () => {
     expect(text).toContain('2 stakeholders (names withheld)')
     expect(text).not.toContain('Test minutes-s1')
     expect(text).not.toContain('DRAFT')
+  })
+
+  it('the signed minutes name the draws behind the round\'s acceptability figures', async () => {
+    const { rows: [weighing] } = await testDb().query('select id from weighings where room_id = $1', [roomId])
+    const text = pdftotext(signed, 'signed-draws.pdf').replace(/\s+/g, ' ')
+    expect(text).toContain(`Acceptability figures: 10,000 random weightings, seed ${seedFromText(weighing.id)}`)
   })
 
   it('the public check finds it valid, signed by the secretary and held here (room title, signing time and signer only); a changed copy is not', async () => {

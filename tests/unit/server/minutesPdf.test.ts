@@ -65,6 +65,7 @@ export function sampleContent(overrides: Partial<MinutesContent> = {}): MinutesC
       weightings: [{ label: 'Stakeholder 1', weightsPercent: [70, 30], favourites: ['North wall'] }, { label: 'Stakeholder 2', weightsPercent: [20, 80], favourites: ['North wall'] }],
       favouredBy: [{ name: 'North wall', count: 2 }],
       group: [{ rule: 'mean', ruleLabel: 'Mean', weightsPercent: [45, 55], dispersionPercent: 25, agreementPercent: 100, favourites: ['North wall'], note: null }],
+      acceptability: { samples: 10_000, seed: 1_234_567_890 },
     }],
     vote: { ledgerVersion: 3, openedAt: '2026-11-30T09:20:00.000Z', closedAt: '2026-11-30T09:30:00.000Z', cast: 2, eligible: 2, tally: [{ name: 'North wall', counts: { approve: 2, object: 0, abstain: 0 } }] },
     resolution: {
@@ -94,6 +95,8 @@ describe('renderMinutesPdf', () => {
     expect(text).toMatch(/2 stakeholders \(names withheld\)/)
     expect(text).not.toContain('DRAFT')
     expect(text).toContain('responsibility stays with the people')
+    // Each revealed round names the draws behind its acceptability figures, so they can be drawn again.
+    expect(text).toContain('Acceptability figures: 10,000 random weightings, seed 1234567890')
     // The uploaded file the option table was read from, cited by name, size and SHA-256.
     expect(text.replace(/\s+/g, ' ')).toContain(`Read from schemes.csv (14 kB), kept with the room; its SHA-256 ${SOURCE_HASH}`)
     const typed = poppler('pdftotext', await renderMinutesPdf(sampleContent({ ledger: { version: 3, hash: HASH, createdAt: '2026-11-29T09:00:00.000Z', note: '', source: null } }), { draft: false }))

@@ -1,5 +1,7 @@
+import { spawnSync } from 'node:child_process'
+import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
-import { defaultCorners, seedFromText } from '../../../../shared/utils/weightSpace'
+import { acceptabilityDrawsLine, defaultCorners, roundAcceptabilityDraws, seedFromText } from '../../../../shared/utils/weightSpace'
 import { placeOnMap, TRIANGLE_HEIGHT, type WeightMap } from '../../../../shared/utils/weightMap'
 import { stabilitySentence } from '../../../../shared/utils/stabilityWords'
 import { analyseLedger } from '../../../../shared/utils/ledger'
@@ -18,6 +20,40 @@ describe('seedFromText', () => {
     expect(Number.isInteger(a) && a >= 0 && a < 2 ** 32).toBe(true)
     expect(seedFromText('weighing-1')).toBe(a)
     expect(seedFromText('weighing-2')).not.toBe(a)
+  })
+})
+
+/** FNV-1a (32-bit) of a text's UTF-8 bytes, computed by python3 (not our code): the reference for the seed. */
+function pythonFnv1a(text: string): number {
+  const script = 'import sys\nh = 0x811C9DC5\nfor b in sys.argv[1].encode():\n    h = ((h ^ b) * 0x01000193) % 2**32\nprint(h)'
+  const run = spawnSync('python3', ['-c', script, text], { encoding: 'utf8' })
+  if (run.error) throw run.error
+  return Number(run.stdout.trim())
+}
+
+describe('roundAcceptabilityDraws (the seed the weight-space view uses and the minutes record)', () => {
+  const weighingId = '3f6c1d2e-8a4b-4c5d-9e0f-1a2b3c4d5e6f'
+
+  it('draws 10,000 weightings with the FNV-1a hash of the weighing id as seed', () => {
+    const draws = roundAcceptabilityDraws(weighingId)
+    expect(draws).toEqual({ samples: 10_000, seed: pythonFnv1a(weighingId) })
+    expect(roundAcceptabilityDraws('0e9b7a60-1c2d-4e3f-8a9b-0c1d2e3f4a5b').seed).not.toBe(draws.seed)
+  })
+
+  it('is the one function behind both the app\'s figures and the server\'s minutes', () => {
+    // Both sides take samples and seed from roundAcceptabilityDraws, and neither derives a seed of its own.
+    const app = readFileSync(new URL('../../../../app/components/spread/SpreadPanel.vue', import.meta.url), 'utf8')
+    const server = readFileSync(new URL('../../../../server/utils/minutesContent.ts', import.meta.url), 'utf8')
+    expect(app).toMatch(/roundAcceptabilityDraws\(props\.results\.weighing\.id\)/)
+    expect(server).toMatch(/acceptability: roundAcceptabilityDraws\(id\)/)
+    for (const source of [app, server]) {
+      expect(source).not.toMatch(/seedFromText|samples: \d/)
+    }
+  })
+
+  it('reads as one line of the minutes', () => {
+    expect(acceptabilityDrawsLine({ samples: 10_000, seed: 1_234_567_890 })).toBe('Acceptability figures: 10,000 random weightings, seed 1234567890')
+    expect(acceptabilityDrawsLine({ samples: 1, seed: 0 })).toBe('Acceptability figures: 1 random weighting, seed 0')
   })
 })
 
