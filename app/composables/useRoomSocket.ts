@@ -7,6 +7,22 @@ export type RoomSocket = Socket<ServerToClientEvents, ClientToServerEvents>
 export type ConnectionState = 'connecting' | 'connected' | 'reconnecting' | 'offline' | 'signed-out'
 
 /**
+ * Rooms whose join the server refused as not (any longer) this person's (404) or not theirs to
+ * see (403), by room id, with the server's message. Only sockets write it, so only in the browser.
+ */
+const refusals = reactive(new Map<string, string>())
+
+/**
+ * For a room page: the refusal its sockets met since the page opened, or null. Call it in the
+ * page's setup: a new visit starts afresh, and a later successful join (say, after being invited
+ * back) clears it.
+ */
+export function useRoomRefusal(roomId: MaybeRefOrGetter<string>) {
+  refusals.delete(toValue(roomId))
+  return computed(() => refusals.get(toValue(roomId)) ?? null)
+}
+
+/**
  * The live connection to one room. Joins on every (re)connect — the PostgreSQL adapter keeps no
  * state across reconnects, so the room is re-synced each time — and exposes the room's state,
  * the caller's role and own submission, the facilitator's list of names, and the connection
@@ -30,12 +46,29 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   // websocket first; long-polling only when the network refuses websockets.
   const socket: RoomSocket = io({ transports: ['websocket', 'polling'], reconnectionDelayMax: 5000, withCredentials: true })
 
+  function forget() {
+    state.value = null
+    role.value = null
+    mine.value = null
+    names.value = null
+    vote.value = null
+    myBallot.value = null
+  }
+
   function join() {
-    socket.emit('room:join', { roomId: toValue(roomId) }, (answer: Ack<JoinedRoom>) => {
+    const id = toValue(roomId)
+    socket.emit('room:join', { roomId: id }, (answer: Ack<JoinedRoom>) => {
       if (!answer.ok) {
         lastFailure.value = answer.message
+        // No longer a member (removed while the page was open): what this page showed of the room
+        // is no longer theirs to see; the page shows the refusal instead.
+        if (answer.status === 404 || answer.status === 403) {
+          forget()
+          refusals.set(id, answer.message)
+        }
         return
       }
+      refusals.delete(id)
       role.value = answer.data.role
       state.value = answer.data.state
       mine.value = answer.data.mine

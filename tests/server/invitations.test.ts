@@ -3,8 +3,10 @@ import { readdirSync, readFileSync } from 'node:fs'
 import { networkInterfaces } from 'node:os'
 import { join } from 'node:path'
 import QRCode from 'qrcode'
+import { io as connect, type Socket } from 'socket.io-client'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { ROOM_ROLES, roleAllows, type RoomAction, type RoomRole } from '../../shared/roles'
+import type { Ack, ClientToServerEvents, JoinedRoom, RoomLiveState, ServerToClientEvents } from '../../shared/types/realtime'
 import { Client, newPerson, TEST_PASSWORD, uniqueEmail } from '../support/client'
 import { closeTestDb, count, testDb } from '../support/db'
 import { startBuiltServer } from '../support/server'
@@ -177,6 +179,45 @@ describe('accepting an invitation', () => {
     expect(answer.body).toMatchObject({ roomId, role: 'observer', alreadyMember: false })
     expect(await roleOf(roomId, other.user.id)).toBe('observer')
     expect(await count('invitations', 'room_id = $1 and accepted_by = $2 and status = \'accepted\'', [roomId, other.user.id])).toBe(1)
+  })
+
+  it('tells the room\'s open pages the new count of who may weigh, by either way of accepting', async () => {
+    const { facilitator, roomId } = await newRoom('live')
+    const socket: Socket<ServerToClientEvents, ClientToServerEvents> = connect(baseUrl, { extraHeaders: { cookie: facilitator.client.cookie }, transports: ['websocket'], reconnection: false, forceNew: true })
+    try {
+      await new Promise<void>((resolve, reject) => {
+        socket.once('connect', resolve)
+        socket.once('connect_error', reject)
+      })
+      const joined = await new Promise<Ack<JoinedRoom>>(resolve => socket.emit('room:join', { roomId }, resolve))
+      expect(joined).toMatchObject({ ok: true, data: { state: { eligible: 0 } } })
+      const heard: RoomLiveState[] = []
+      socket.on('room:state', state => heard.push(state))
+      const eligibleSoon = async (n: number) => {
+        const deadline = Date.now() + 5000
+        while (!heard.some(s => s.roomId === roomId && s.eligible === n)) {
+          if (Date.now() > deadline) throw new Error(`no room:state with ${n} eligible within 5 s (heard ${JSON.stringify(heard.map(s => s.eligible))})`)
+          await new Promise(resolve => setTimeout(resolve, 50))
+        }
+      }
+
+      // A new account made from the link.
+      const email = uniqueEmail('live-new')
+      await invite(facilitator.client, roomId, email, 'stakeholder')
+      const accepted = await new Client(baseUrl).post(`/api/invitations/${latestToken(email)}/accept`, { displayName: 'Live Newcomer', password: TEST_PASSWORD })
+      expect(accepted.status).toBe(201)
+      await eligibleSoon(1)
+
+      // A signed-in account.
+      const other = await newPerson(baseUrl, 'live-signed-in')
+      const second = uniqueEmail('live-second')
+      await invite(facilitator.client, roomId, second, 'stakeholder')
+      expect((await other.client.post(`/api/invitations/${latestToken(second)}/accept`)).status).toBe(200)
+      await eligibleSoon(2)
+    }
+    finally {
+      socket.disconnect()
+    }
   })
 
   it('keeps the role of someone already in the room, and still uses up the link', async () => {

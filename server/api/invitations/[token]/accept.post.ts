@@ -16,10 +16,14 @@ export default defineEventHandler(async (event) => {
   const sessionUser = account
 
   if (sessionUser) {
-    return useDb().transaction(async (tx) => {
+    const joined = await useDb().transaction(async (tx) => {
       const invitation = await liveInvitation(tx, token, { lock: true })
       return acceptInvitation(tx, invitation, sessionUser.id)
     })
+    // After the commit: the room hears the new counts of who may weigh and vote, and the new
+    // member's open pages of the room are told to join again.
+    if (!joined.alreadyMember) await membershipChanged(joined.roomId, sessionUser.id)
+    return joined
   }
 
   // A dead link answers 404 before any password is hashed or any form error is shown.
@@ -40,6 +44,7 @@ export default defineEventHandler(async (event) => {
     const joined = await acceptInvitation(tx, invitation, created.id, { newAccount: true })
     return { user: created, joined }
   })
+  await membershipChanged(joined.roomId, user.id)
   await startSession(event, user)
   setResponseStatus(event, 201)
   return { ...joined, user: sessionUserOf(user) }
