@@ -1,4 +1,9 @@
+import { createRequire } from 'node:module'
+import { dirname, join } from 'node:path'
 import { linkNitroSelfReferences } from './scripts/lib/nitroSelfLinks'
+
+/** The two Nunito files the minutes PDF embeds, shipped inside the server build (server/utils/minutesPdf.ts). */
+const nunitoFiles = join(dirname(createRequire(import.meta.url).resolve('@fontsource/nunito/package.json')), 'files')
 
 // https://nuxt.com/docs/api/configuration/nuxt-config
 export default defineNuxtConfig({
@@ -41,6 +46,7 @@ export default defineNuxtConfig({
     // Node ≥ 20.19 resolves the "module-sync" export condition (used by some of exceljs's small
     // dependencies); without it the file tracer leaves those files out of .output.
     exportConditions: ['module-sync'],
+    serverAssets: [{ baseName: 'nunito', dir: nunitoFiles, pattern: 'nunito-latin-{400,700}-normal.woff' }],
     hooks: {
       // pdfkit brings @noble/hashes 1.x and pkijs 2.x; see scripts/lib/nitroSelfLinks.ts.
       compiled(nitro) {

@@ -5,8 +5,9 @@
  * Fonts: Nunito from @fontsource/nunito (its WOFF files, which pdfkit embeds as subsets with a
  * ToUnicode map, so the text can be searched and copied). Fontsource splits Nunito by script, and
  * pdfkit draws a run in one font, so each run of text uses Nunito when the Latin file holds every
- * character of it, else DejaVu Sans (Debian's fonts-dejavu) when installed, else Helvetica. When the
- * Nunito files cannot be found (a deployment without node_modules), Helvetica is used throughout.
+ * character of it, else DejaVu Sans (Debian's fonts-dejavu) when installed, else Helvetica. The two
+ * Nunito files ship inside the server build as Nitro server assets (nuxt.config.ts), so a deployed
+ * .output needs no node_modules; outside Nitro (unit tests) they are read from the package.
  *
  * Everything people typed is passed to pdfkit as text to draw, never as PDF syntax.
  */
@@ -31,7 +32,7 @@ const A4 = { width: 595.28, height: 841.89 }
 
 type Weight = 'regular' | 'bold'
 
-interface FontFiles { regular: string, bold: string }
+interface FontFiles { regular: string | Buffer, bold: string | Buffer }
 
 /** Where a package's file is, from the project (cwd) or from this module; null when not found. */
 function resolvePackageFile(specifier: string): string | null {
@@ -45,14 +46,37 @@ function resolvePackageFile(specifier: string): string | null {
   return null
 }
 
-let nunitoFiles: FontFiles | null | undefined
-function nunito(): FontFiles | null {
-  if (nunitoFiles === undefined) {
-    const regular = resolvePackageFile('@fontsource/nunito/files/nunito-latin-400-normal.woff')
-    const bold = resolvePackageFile('@fontsource/nunito/files/nunito-latin-700-normal.woff')
-    nunitoFiles = regular && bold ? { regular, bold } : null
-    if (!nunitoFiles) console.warn('[minutes] Nunito (@fontsource/nunito) not found: the minutes use Helvetica.')
+const NUNITO = { regular: 'nunito-latin-400-normal.woff', bold: 'nunito-latin-700-normal.woff' } as const
+
+/** Where the server build keeps the two files (set by server/plugins/minutesFonts.ts); null outside Nitro. */
+let assetLoader: ((name: string) => Promise<Uint8Array | null>) | null = null
+export function setNunitoAssetLoader(loader: (name: string) => Promise<Uint8Array | null>) {
+  assetLoader = loader
+  nunitoFiles = undefined
+}
+
+async function nunitoFromAssets(): Promise<FontFiles | null> {
+  if (!assetLoader) return null
+  try {
+    const [regular, bold] = await Promise.all([assetLoader(NUNITO.regular), assetLoader(NUNITO.bold)])
+    return regular && bold ? { regular: Buffer.from(regular), bold: Buffer.from(bold) } : null
   }
+  catch {
+    return null
+  }
+}
+
+let nunitoFiles: Promise<FontFiles | null> | undefined
+function nunito(): Promise<FontFiles | null> {
+  nunitoFiles ??= (async () => {
+    const fromAssets = await nunitoFromAssets()
+    if (fromAssets) return fromAssets
+    const regular = resolvePackageFile(`@fontsource/nunito/files/${NUNITO.regular}`)
+    const bold = resolvePackageFile(`@fontsource/nunito/files/${NUNITO.bold}`)
+    if (regular && bold) return { regular, bold }
+    console.warn('[minutes] Nunito (@fontsource/nunito) not found: the minutes use Helvetica.')
+    return null
+  })()
   return nunitoFiles
 }
 
@@ -65,9 +89,8 @@ class FontPicker {
   private readonly chain: Record<Weight, string[]> = { regular: [], bold: [] }
   private readonly coverage = new Map<string, { hasGlyphForCodePoint?: (cp: number) => boolean } | null>()
 
-  constructor(private readonly doc: Doc) {
+  constructor(private readonly doc: Doc, n: FontFiles | null) {
     const sets: [string, FontFiles][] = []
-    const n = nunito()
     if (n) sets.push(['nunito', n])
     if (existsSync(DEJAVU.regular) && existsSync(DEJAVU.bold)) sets.push(['dejavu', DEJAVU])
     for (const [name, files] of sets) {
@@ -120,6 +143,7 @@ export interface MinutesPdfOptions {
 
 /** The minutes as an unsigned PDF. */
 export async function renderMinutesPdf(content: MinutesContent, options: MinutesPdfOptions): Promise<Buffer> {
+  const nunitoFonts = await nunito()
   const doc = new PDFDocument({
     size: 'A4',
     margins: { top: MARGIN, bottom: MARGIN, left: MARGIN, right: MARGIN },
@@ -143,7 +167,7 @@ export async function renderMinutesPdf(content: MinutesContent, options: Minutes
     doc.on('error', reject)
   })
 
-  const fonts = new FontPicker(doc)
+  const fonts = new FontPicker(doc, nunitoFonts)
   const width = A4.width - 2 * MARGIN
   const bottom = A4.height - MARGIN
 

@@ -40,13 +40,18 @@ export interface RunningServer {
   stop: () => Promise<void>
 }
 
-/** `port`: listen there (e.g. to restart a server where its clients will reconnect); default a free one. */
-export async function startBuiltServer(env: NodeJS.ProcessEnv = process.env, port?: number): Promise<RunningServer> {
+/**
+ * `port`: listen there (e.g. to restart a server where its clients will reconnect); default a free one.
+ * `dir`: run the build found in `<dir>/.output`, with `dir` as the working directory (a deployment
+ * somewhere else); default this checkout.
+ */
+export async function startBuiltServer(env: NodeJS.ProcessEnv = process.env, port?: number, dir = '.'): Promise<RunningServer> {
   if (env.BASE_URL) return { baseUrl: env.BASE_URL, stop: async () => {} }
   if (!env.DATABASE_URL) throw new Error('DATABASE_URL is not set: run the tests through `npm test`, or export it from a running database.')
-  if (!existsSync('.output/server/index.mjs')) throw new Error('No build in .output: run `npx nuxt build` (npm test does it for you).')
+  if (!existsSync(`${dir}/.output/server/index.mjs`)) throw new Error('No build in .output: run `npx nuxt build` (npm test does it for you).')
   port ??= await freePort()
   const child = spawn(process.execPath, ['.output/server/index.mjs'], {
+    cwd: dir,
     env: { ...env, NITRO_PORT: String(port), NITRO_HOST: '::', NODE_ENV: 'production' },
     stdio: ['ignore', 'inherit', 'inherit'],
   })
