@@ -55,9 +55,13 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
     myBallot.value = null
   }
 
+  // Only the newest join's answer counts: an older one may describe the room for a former role.
+  let joinSeq = 0
   function join() {
     const id = toValue(roomId)
+    const seq = ++joinSeq
     socket.emit('room:join', { roomId: id }, (answer: Ack<JoinedRoom>) => {
+      if (seq !== joinSeq) return
       if (!answer.ok) {
         lastFailure.value = answer.message
         // No longer a member (removed while the page was open): what this page showed of the room
@@ -66,6 +70,8 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
           forget()
           refusals.set(id, answer.message)
         }
+        // The role changed while the server was answering: ask again for what the new role sees.
+        if (answer.status === 409) setTimeout(join, 250)
         return
       }
       refusals.delete(id)
@@ -121,7 +127,9 @@ export function useRoomSocket(roomId: MaybeRefOrGetter<string>) {
   // role may see (a removed member's join is refused with a message).
   socket.on('room:membership', (body) => {
     if (body.roomId !== toValue(roomId)) return
+    // What a former role could see goes at once, whether or not the join below succeeds.
     names.value = null
+    vote.value = null
     join()
   })
   socket.on('weighing:names', (list) => {

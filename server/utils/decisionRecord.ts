@@ -1,7 +1,9 @@
 /**
  * The full decision record of a room for the archive (shared/types/decisionRecord.ts).
  * Reads only. Who chose what in a vote is left out: the record carries each vote's tally, as the
- * minutes do, since secretaries may export it and never see ballots.
+ * minutes do, since secretaries may export it and never see ballots. When the minutes withhold
+ * stakeholders' names (an anonymous weighing), so does the record: the audit entries of weights
+ * and ballots lose their actor and the input style, which could single out the one who ranked.
  */
 import { asc, eq } from 'drizzle-orm'
 import { auditLog, users } from '../database/schema'
@@ -27,6 +29,14 @@ export function withAmendmentChains(resolutions: readonly ResolutionView[]): Dec
   })
 }
 
+/** Audit entries that would tie a stakeholder to a weighting or a ballot. */
+const STAKEHOLDER_ACTIONS = new Set(['weights.submitted', 'ballot.cast'])
+
+function withheld(details: Record<string, unknown>): Record<string, unknown> {
+  const { style: _style, ...rest } = details
+  return rest
+}
+
 export async function decisionRecord(roomId: string): Promise<DecisionRecordExport> {
   const minutes = await minutesContent(roomId)
   const [resolutions, votes, audit, signed] = await Promise.all([
@@ -45,7 +55,9 @@ export async function decisionRecord(roomId: string): Promise<DecisionRecordExpo
     minutes,
     resolutions: withAmendmentChains(resolutions).reverse(),
     votes: votes.map(withoutBallots).reverse(),
-    audit: audit.map(a => ({ id: a.id, at: a.at.toISOString(), action: a.action, actor: a.actor, details: a.details })),
+    audit: audit.map(a => minutes.stakeholderNamesWithheld && STAKEHOLDER_ACTIONS.has(a.action)
+      ? { id: a.id, at: a.at.toISOString(), action: a.action, actor: null, details: withheld(a.details) }
+      : { id: a.id, at: a.at.toISOString(), action: a.action, actor: a.actor, details: a.details }),
     signedMinutes: signed.reverse(),
   }
 }

@@ -346,7 +346,14 @@ function zipDirectory(bytes: Buffer): ZipDirectory | null {
   for (let at = bytes.length - 22; at >= lowest; at--) {
     if (bytes.readUInt32LE(at) !== 0x06054b50) continue
     const count = bytes.readUInt16LE(at + 10)
+    const directorySize = bytes.readUInt32LE(at + 12)
     let offset = bytes.readUInt32LE(at + 16)
+    // Only the plain layout spreadsheet programs write: the directory ends where the end record
+    // begins, and no field marks ZIP64. Readers repair other layouts differently (JSZip shifts the
+    // offsets, or follows a ZIP64 record), so a file could show this check one directory and the
+    // workbook reader another.
+    if (count === 0xffff || bytes.readUInt16LE(at + 8) !== count || directorySize === 0xffffffff || offset === 0xffffffff) return null
+    if (offset + directorySize !== at) return null
     const names: string[] = []
     const entries: ZipEntry[] = []
     let unpacked = 0

@@ -40,12 +40,35 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
     return false
   }
 
+  /**
+   * Joins of one room on this socket run one at a time: a join that finds the role changed under it
+   * leaves the channels it chose, and must not do so after a newer join has chosen them again
+   * (a client re-joins as soon as it hears of a membership change).
+   */
+  const joinQueues = new Map<string, Promise<unknown>>()
+  function oneJoinAtATime<T>(roomId: string, task: () => Promise<T>): Promise<T> {
+    const next = (joinQueues.get(roomId) ?? Promise.resolve()).then(task, task)
+    joinQueues.set(roomId, next.catch(() => {}))
+    return next
+  }
+
   socket.on('room:join', async (body, ack) => {
     if (!allow('room:join', ack)) return
     try {
       const parsed = JoinRoomBody.safeParse(body)
       if (!parsed.success) throw createError({ statusCode: 400, message: Object.values(fieldErrorsOf(parsed.error.issues))[0] })
       const { roomId } = parsed.data
+      await oneJoinAtATime(roomId, () => joinRoom(roomId, ack))
+    }
+    catch (error) {
+      const refused = failure(error)
+      answer(ack, refused)
+      socket.emit('failure', { event: 'room:join', status: refused.status, message: refused.message })
+    }
+  })
+
+  async function joinRoom(roomId: string, ack: unknown) {
+    try {
       const { role } = await requireRoomMember(roomId, socket.data.userId)
       await socket.join(roomChannel(roomId))
       if (roleAllows(role, 'weighing:run')) await socket.join(facilitatorChannel(roomId))
@@ -78,7 +101,7 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
       answer(ack, refused)
       socket.emit('failure', { event: 'room:join', status: refused.status, message: refused.message })
     }
-  })
+  }
 
   socket.on('room:leave', async (body) => {
     const roomId = typeof body?.roomId === 'string' ? body.roomId : ''

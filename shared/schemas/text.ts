@@ -5,12 +5,13 @@ import type { z } from 'zod'
  * control characters (and the Unicode line and paragraph separators) turn a one-line name into
  * several lines in e-mail headers, CSV cells and the minutes. The same rules serve the forms, the
  * routes and the spreadsheet upload (server/utils/ledgerImport.ts), so a clean preview never fails
- * on save.
+ * on save. The bidirectional embedding, override and isolate controls (U+202A–U+202E,
+ * U+2066–U+2069) are refused too: they can make a name read differently from what it is.
  */
-export const SINGLE_LINE_FORBIDDEN = /[\p{Cc}\u2028\u2029]/u
+export const SINGLE_LINE_FORBIDDEN = /[\p{Cc}\u2028\u2029\u202A-\u202E\u2066-\u2069]/u
 /** In longer texts line breaks and tabs are fine; other control characters are not. */
 // eslint-disable-next-line no-control-regex -- finding control characters is the point
-export const MULTI_LINE_FORBIDDEN = /[\0-\x08\x0B\x0C\x0E-\x1F\x7F-\x9F]/
+export const MULTI_LINE_FORBIDDEN = /[\0-\x08\x0B\x0C\x0E-\x1F\x7F-\x9F\u202A-\u202E\u2066-\u2069]/
 
 /** Where the first forbidden character sits, for a message that says what and where (1-based). */
 export function forbiddenAt(text: string, pattern: RegExp): { position: number, code: string } | null {

@@ -176,7 +176,7 @@ export function listedNames(stage: Pick<NarrowingStage, 'names'>, max: number): 
 export function weighedLine(submitted: number, eligible: number, { short = false } = {}): string {
   if (eligible === 0 && submitted === 0) return 'No stakeholder is in the room yet'
   const noun = short ? '' : eligible === 1 ? ' stakeholder' : ' stakeholders'
-  return `${formatNumber(submitted, 0)} of ${formatNumber(eligible, 0)}${noun} ${submitted === 1 ? 'has' : 'have'} weighed`
+  return `${formatNumber(submitted, 0)} of ${formatNumber(eligible, 0)}${noun} ${submitted === 1 || (submitted === 0 && eligible === 1) ? 'has' : 'have'} weighed`
 }
 
 /** Share weighed, 0 to 1, for a progress bar (0 when nobody may weigh, at most 1). */

@@ -184,6 +184,25 @@ describe('zip bombs: sizes are checked by inflating, not believed', () => {
     expect(result.problems[0]!.message).toMatch(/damaged or incomplete/)
   })
 
+  // JSZip (inside exceljs) repairs layouts this check would read differently: it shifts every
+  // offset when the directory does not end at the end record, and follows a ZIP64 record when a
+  // field says 0xFFFFFFFF. Such files are refused, so both readers see the same directory.
+  it('calls damaged a file whose directory does not end where the end record begins', async () => {
+    const honest = zipOf('xl/workbook.xml', Buffer.from('<workbook/>'))
+    const end = honest.length - 22
+    const shifted = Buffer.concat([honest.subarray(0, end), Buffer.alloc(7), honest.subarray(end)])
+    expect(await zipUnpacksWithin(honest, 1024)).toBe('ok')
+    expect(await zipUnpacksWithin(shifted, 1024)).toBe('damaged')
+  })
+
+  it('calls damaged a file whose end record marks ZIP64', async () => {
+    const marked = zipOf('xl/workbook.xml', Buffer.from('<workbook/>'))
+    marked.writeUInt32LE(0xFFFFFFFF, marked.length - 22 + 12)
+    expect(await zipUnpacksWithin(marked, 1024)).toBe('damaged')
+    const result = await parseLedgerFile({ filename: 'zip64.xlsx', bytes: marked }, KELDERWICK_CRITERIA, [])
+    expect(result.problems.map(p => p.code)).toEqual(['xlsx-unreadable'])
+  })
+
   it('refuses, through the parser, a workbook part that claims 10 bytes and inflates past 100 MB', async () => {
     const bomb = zipOf('xl/workbook.xml', Buffer.alloc(MAX_XLSX_UNPACKED_BYTES + 1024), 10)
     expect(bomb.length).toBeLessThan(MAX_UPLOAD_BYTES)

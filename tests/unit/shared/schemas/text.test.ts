@@ -29,6 +29,16 @@ describe('which characters are refused', () => {
     }
   })
 
+  it('refuses the bidirectional overrides and isolates in names and texts alike', () => {
+    for (const c of ['\u202A', '\u202B', '\u202C', '\u202D', '\u202E', '\u2066', '\u2067', '\u2068', '\u2069']) {
+      expect(SINGLE_LINE_FORBIDDEN.test(`a${c}b`)).toBe(true)
+      expect(MULTI_LINE_FORBIDDEN.test(`a${c}b`)).toBe(true)
+    }
+    // The marks that right-to-left text needs stay allowed.
+    expect(SINGLE_LINE_FORBIDDEN.test('\u200Fשלום\u200E')).toBe(false)
+    expect(forbiddenAt('invoice\u202Efdp.exe', SINGLE_LINE_FORBIDDEN)).toEqual({ position: 8, code: 'U+202E' })
+  })
+
   it('says where the first one is, 1-based, as U+XXXX', () => {
     expect(forbiddenAt('Rock\u0007 revetment\u0000', SINGLE_LINE_FORBIDDEN)).toEqual({ position: 5, code: 'U+0007' })
     expect(forbiddenAt('plain', SINGLE_LINE_FORBIDDEN)).toBeNull()
@@ -64,7 +74,7 @@ describe('the schemas apply the rule', () => {
   })
 
   it('any name without control characters passes the one-line rule (property)', () => {
-    const printable = fc.string({ unit: 'grapheme', minLength: 1, maxLength: 60 }).filter(s => !/[\p{Cc}\u2028\u2029]/u.test(s) && s.trim().length > 0)
+    const printable = fc.string({ unit: 'grapheme', minLength: 1, maxLength: 60 }).filter(s => !/[\p{Cc}\u2028\u2029\u202A-\u202E\u2066-\u2069]/u.test(s) && s.trim().length > 0)
     fc.assert(fc.property(printable, name => AlternativeInput.safeParse({ id: 'a', name, scores: {} }).success === (name.trim().length <= 120)))
   })
 })

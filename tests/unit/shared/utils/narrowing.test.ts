@@ -162,7 +162,9 @@ describe('weighedLine and weighedShare', () => {
   it.each([
     [3, 5, false, '3 of 5 stakeholders have weighed'],
     [1, 5, false, '1 of 5 stakeholders has weighed'],
-    [0, 1, false, '0 of 1 stakeholder have weighed'],
+    [0, 1, false, '0 of 1 stakeholder has weighed'],
+    [0, 1, true, '0 of 1 has weighed'],
+    [2, 1, false, '2 of 1 stakeholder have weighed'], // someone removed after weighing
     [7, 9, true, '7 of 9 have weighed'],
     [0, 0, false, 'No stakeholder is in the room yet'],
     [1200, 1500, true, '1,200 of 1,500 have weighed'],
