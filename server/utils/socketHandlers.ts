@@ -68,38 +68,31 @@ export function registerSocketHandlers(socket: RealtimeSocket) {
   })
 
   async function joinRoom(roomId: string, ack: unknown) {
-    try {
-      const { role } = await requireRoomMember(roomId, socket.data.userId)
-      await socket.join(roomChannel(roomId))
-      if (roleAllows(role, 'weighing:run')) await socket.join(facilitatorChannel(roomId))
-      // A removal or role change that committed while this join was under way sent its "leave"
-      // before the socket joined: look again, so channels chosen for a stale role are not kept.
-      const now = await requireRoomMember(roomId, socket.data.userId).catch((error: unknown) => ({ error }))
-      if ('error' in now || now.role !== role) {
-        await socket.leave(roomChannel(roomId))
-        await socket.leave(facilitatorChannel(roomId))
-        if ('error' in now) throw now.error
-        throw createError({ statusCode: 409, message: 'Your role in this room changed while joining; join again.' })
-      }
-      socket.data.rooms.set(roomId, role)
-      // Reads shared with the other joins (and broadcasts) of this room that began no earlier than
-      // this socket joined its channels: a crowd joining at once costs a few reads, none stale.
-      const withBallots = roleAllows(role, 'weighing:run')
-      const [state, vote] = await Promise.all([
-        freshRead(`live:${roomId}`, () => liveState(roomId)),
-        freshRead(`vote:${roomId}:${withBallots}`, () => currentVote(roomId, { withBallots })),
-      ])
-      const ballot = vote && roleAllows(role, 'vote:cast') ? await myBallot(roomId, socket.data.userId) : null
-      answer(ack, { ok: true, data: { role, state, mine: roleAllows(role, 'weights:submit') ? await mySubmission(roomId, socket.data.userId) : null, vote, myBallot: ballot } })
-      if (state.weighing && roleAllows(role, 'weighing:run')) {
-        const weighingId = state.weighing.id
-        socket.emit('weighing:names', { weighingId, names: await freshRead(`names:${weighingId}`, () => submittedNames(weighingId)) })
-      }
+    const { role } = await requireRoomMember(roomId, socket.data.userId)
+    await socket.join(roomChannel(roomId))
+    if (roleAllows(role, 'weighing:run')) await socket.join(facilitatorChannel(roomId))
+    // A removal or role change that committed while this join was under way sent its "leave"
+    // before the socket joined: look again, so channels chosen for a stale role are not kept.
+    const now = await requireRoomMember(roomId, socket.data.userId).catch((error: unknown) => ({ error }))
+    if ('error' in now || now.role !== role) {
+      await socket.leave(roomChannel(roomId))
+      await socket.leave(facilitatorChannel(roomId))
+      if ('error' in now) throw now.error
+      throw createError({ statusCode: 409, message: 'Your role in this room changed while joining; join again.' })
     }
-    catch (error) {
-      const refused = failure(error)
-      answer(ack, refused)
-      socket.emit('failure', { event: 'room:join', status: refused.status, message: refused.message })
+    socket.data.rooms.set(roomId, role)
+    // Reads shared with the other joins (and broadcasts) of this room that began no earlier than
+    // this socket joined its channels: a crowd joining at once costs a few reads, none stale.
+    const withBallots = roleAllows(role, 'weighing:run')
+    const [state, vote] = await Promise.all([
+      freshRead(`live:${roomId}`, () => liveState(roomId)),
+      freshRead(`vote:${roomId}:${withBallots}`, () => currentVote(roomId, { withBallots })),
+    ])
+    const ballot = vote && roleAllows(role, 'vote:cast') ? await myBallot(roomId, socket.data.userId) : null
+    answer(ack, { ok: true, data: { role, state, mine: roleAllows(role, 'weights:submit') ? await mySubmission(roomId, socket.data.userId) : null, vote, myBallot: ballot } })
+    if (state.weighing && roleAllows(role, 'weighing:run')) {
+      const weighingId = state.weighing.id
+      socket.emit('weighing:names', { weighingId, names: await freshRead(`names:${weighingId}`, () => submittedNames(weighingId)) })
     }
   }
 

@@ -1,10 +1,9 @@
-import { readdirSync, readFileSync } from 'node:fs'
-import { join } from 'node:path'
 import { gzipSync } from 'node:zlib'
 import AxeBuilder from '@axe-core/playwright'
 import { request as playwrightRequest, type Page, type TestInfo } from '@playwright/test'
 import { testDb } from '../support/db'
 import { expect, test, uniqueEmail } from './fixtures'
+import { invitationLinkFor } from './mail'
 
 /**
  * Every main page through axe-core (the rules for WCAG 2.0–2.2 A and AA, and axe's best
@@ -35,16 +34,6 @@ interface Room {
   facilitatorEmail: string
   stakeholderEmail: string
   invitationLink: string
-}
-
-/** The invitation link in the newest message the mail catcher (MAIL_DIR, set by npm test) holds for `address`. */
-function invitationLinkFor(address: string) {
-  const dir = process.env.MAIL_DIR
-  if (!dir) throw new Error('MAIL_DIR is not set: npm test starts the mail catcher and sets it')
-  const message = readdirSync(dir).filter(name => name.endsWith('.json')).sort().reverse()
-    .map(name => JSON.parse(readFileSync(join(dir, name), 'utf8')) as { to: string[], text: string })
-    .find(m => m.to.includes(address))
-  return message && /(https?:\/\/\S+\/invitations\/[\w-]{43})/.exec(message.text)?.[1]
 }
 
 /** A room with a ledger and an open weighing, a stakeholder in it, and a pending invitation. */
