@@ -312,12 +312,21 @@ function nameValue(cert: Certificate, type: string): string | undefined {
   return typeof value === 'string' ? value : undefined
 }
 
+/**
+ * A serial number as `openssl x509 -serial` prints it: the integer in upper-case hexadecimal. DER
+ * stores a positive integer whose first byte is 0x80 or more with a 00 byte before it (the sign);
+ * that byte is not part of the number.
+ */
+export function serialHex(der: Uint8Array): string {
+  return Buffer.from(der).toString('hex').toUpperCase().replace(/^(?:00)+(?=[0-9A-F]{2})/, '')
+}
+
 function identityOf(cert: Certificate): SignerIdentity {
   const organisation = nameValue(cert, OID.organisation)
   return {
     commonName: nameValue(cert, OID.commonName) ?? '(no common name)',
     ...(organisation ? { organisation } : {}),
-    serial: Buffer.from(cert.serialNumber.valueBlock.valueHexView).toString('hex').toUpperCase(),
+    serial: serialHex(cert.serialNumber.valueBlock.valueHexView),
   }
 }
 

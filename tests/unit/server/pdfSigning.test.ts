@@ -14,7 +14,7 @@ import { PDFDict, PDFDocument, PDFHexString, PDFName, PDFString } from 'pdf-lib'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 // @ts-expect-error plain ESM script without types
 import { ensureDevSigningCert as ensureDevSigningCertUntyped } from '../../../scripts/lib/signingCert.mjs'
-import { inspectSignedPdf, looksLikePdf, pdfLiteralText, signPdf } from '../../../server/utils/pdfSigning'
+import { inspectSignedPdf, looksLikePdf, pdfLiteralText, serialHex, signPdf } from '../../../server/utils/pdfSigning'
 import {
   PNG_BYTES, byteRangeOf, offsetInSignedStream, sampleMinutesPdf, withChangedSignatureValue, withFlippedByte,
 } from '../../fixtures/minutes/sampleMinutes'
@@ -200,6 +200,19 @@ describe('signPdf, checked by pdfsig (poppler)', () => {
     finally {
       process.env.COUNTERPOISE_SIGNING_PASSPHRASE = signing.passphrase
     }
+  })
+})
+
+// A random serial whose first byte is 0x80 or more is stored in DER after a 00 sign byte; the
+// comparison with openssl below failed whenever the development certificate drew such a serial.
+describe('serialHex', () => {
+  it.each([
+    [[0x00, 0xDC, 0xBA, 0x7F], 'DCBA7F'],
+    [[0x5A, 0x01], '5A01'],
+    [[0x01, 0x00], '0100'],
+    [[0x00], '00'],
+  ])('%j reads as %s, as openssl prints it', (bytes, hex) => {
+    expect(serialHex(new Uint8Array(bytes))).toBe(hex)
   })
 })
 
